@@ -1,0 +1,7 @@
+export * from './schema/common'
+export * from './schema/auth'
+export * from './schema/parts'
+export * from './schema/kits'
+export * from './schema/stock'
+export * from './schema/selling'
+export * from './schema/packing'

@@ -1,0 +1,30 @@
+import { drizzle, type MySql2Database } from 'drizzle-orm/mysql2'
+import mysql from 'mysql2/promise'
+import * as schema from '../db/schema'
+
+export { and, asc, desc, eq, gt, gte, inArray, isNull, isNotNull, like, lt, lte, ne, not, or, sql } from 'drizzle-orm'
+export const tables = schema
+
+export type Db = MySql2Database<typeof schema>
+/** A transaction handle, for helpers that must run inside the caller's transaction. */
+export type Tx = Parameters<Parameters<Db['transaction']>[0]>[0]
+
+let pool: mysql.Pool | undefined
+let db: Db | undefined
+
+/** The process-wide Drizzle handle over a mysql2 pool (created on first use). */
+export function useDb(): Db {
+  if (!db) {
+    const url = useRuntimeConfig().databaseUrl
+    pool = mysql.createPool({ uri: url, connectionLimit: Number(process.env.KW_DB_POOL || 20), timezone: 'Z', dateStrings: ['DATE'], decimalNumbers: true })
+    db = drizzle(pool, { schema, mode: 'default' })
+  }
+  return db
+}
+
+/** Closes the pool (server shutdown). */
+export async function closeDb() {
+  await pool?.end()
+  pool = undefined
+  db = undefined
+}
