@@ -20,7 +20,7 @@ export interface ImportRow {
   warnings: string[]
 }
 
-export const FIELD_LABELS: Record<ImportField, string> = {
+export const IMPORT_FIELD_LABELS: Record<ImportField, string> = {
   designators: 'designators',
   qty: 'quantity',
   value: 'value',
@@ -88,7 +88,7 @@ export function columnLetter(index: number): string {
 }
 
 /** Problems with a column mapping: a field on two columns, or neither designators nor quantity. */
-export function checkMapping(mapping: Record<number, ImportField>): string[] {
+export function checkImportMapping(mapping: Record<number, ImportField>): string[] {
   const problems: string[] = []
   const columnsOf = new Map<ImportField, number[]>()
   for (const [key, field] of Object.entries(mapping)) {
@@ -96,7 +96,7 @@ export function checkMapping(mapping: Record<number, ImportField>): string[] {
     columnsOf.set(field, [...(columnsOf.get(field) ?? []), Number(key)])
   }
   for (const [field, cols] of columnsOf) {
-    if (cols.length > 1) problems.push(`More than one column is marked as ${FIELD_LABELS[field]} (columns ${cols.map(columnLetter).join(', ')}).`)
+    if (cols.length > 1) problems.push(`More than one column is marked as ${IMPORT_FIELD_LABELS[field]} (columns ${cols.map(columnLetter).join(', ')}).`)
   }
   if (!columnsOf.has('designators') && !columnsOf.has('qty')) problems.push('Mark a column as designators or as quantity.')
   return problems
@@ -123,7 +123,7 @@ function readCells(row: string[], mapping: Record<number, ImportField>, errors: 
     const text = String(row[Number(key)] ?? '').trim()
     if (text === '') continue
     anything = true
-    if (text.startsWith('=')) errors.push(`Column ${columnLetter(Number(key))} (${FIELD_LABELS[field]}): formula cells are not read.`)
+    if (text.startsWith('=')) errors.push(`Column ${columnLetter(Number(key))} (${IMPORT_FIELD_LABELS[field]}): formula cells are not read.`)
     else cells[field] = text
   }
   return anything ? cells : null
@@ -195,10 +195,10 @@ export interface ReadRowsOptions {
 /**
  * Reads data rows with a column mapping. Blank rows are skipped; every other row comes back
  * with its errors (row not importable) and warnings (importable, but check it).
- * Throws when the mapping itself has problems (see checkMapping).
+ * Throws when the mapping itself has problems (see checkImportMapping).
  */
 export function readRows(rows: string[][], mapping: Record<number, ImportField>, options: ReadRowsOptions = {}): ImportRow[] {
-  const problems = checkMapping(mapping)
+  const problems = checkImportMapping(mapping)
   if (problems.length > 0) throw new Error(problems.join(' '))
   const first = options.firstRowNumber ?? 1
   const out: ImportRow[] = []

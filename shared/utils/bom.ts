@@ -32,9 +32,9 @@ export interface OptionGroup {
   options: { id: string; name: string }[]
 }
 
-export type DiffField = 'qty' | 'part' | 'designators' | 'stage' | 'noStandIns' | 'notes'
+export type BomDiffField = 'qty' | 'part' | 'designators' | 'stage' | 'noStandIns' | 'notes'
 
-export interface BomChange { before: BomLine; after: BomLine; fields: DiffField[] }
+export interface BomChange { before: BomLine; after: BomLine; fields: BomDiffField[] }
 
 export interface BomDiff {
   added: BomLine[]
@@ -140,7 +140,7 @@ export function effectiveBom(lines: BomLine[], groups: OptionGroup[], chosen: st
 
 interface Side { line: BomLine; designators: string[]; set: Set<string>; scope: string }
 
-export interface DiffOptions {
+export interface BomDiffOptions {
   /**
    * Lines are only matched within the same scope. By default the scope is the line's optionId
    * (base with base); pass a function (e.g. option name) when option ids differ between revisions.
@@ -206,8 +206,8 @@ function matchHardware(a: Side[], b: Side[]): [number, number][] {
 
 const blank = (s: string | null | undefined) => (s ?? '').trim()
 
-function changedFields(x: Side, y: Side): DiffField[] {
-  const fields: DiffField[] = []
+function changedFields(x: Side, y: Side): BomDiffField[] {
+  const fields: BomDiffField[] = []
   if (x.line.qty !== y.line.qty) fields.push('qty')
   if (x.line.partId !== y.line.partId || blank(x.line.valueText) !== blank(y.line.valueText)) fields.push('part')
   if (compressDesignators(x.designators) !== compressDesignators(y.designators)) fields.push('designators')
@@ -233,14 +233,14 @@ function sortSides<T>(items: T[], sidesOf: (t: T) => Side[]): T[] {
  * designators (largest overlap first); a designator moving between lines shows as changed
  * designators on both. Each list is sorted by first designator; lines without designators last.
  */
-export function diffRevisions(a: BomLine[], b: BomLine[], options: DiffOptions = {}): BomDiff {
+export function diffRevisions(a: BomLine[], b: BomLine[], options: BomDiffOptions = {}): BomDiff {
   const scopeOf = options.scopeOf ?? ((l: BomLine) => l.optionId ?? '')
   const sa = sides(a, scopeOf)
   const sb = sides(b, scopeOf)
   const pairs = [...matchByDesignators(sa, sb), ...matchHardware(sa, sb)]
   const matchedA = new Set(pairs.map(p => p[0]))
   const matchedB = new Set(pairs.map(p => p[1]))
-  const changed: { x: Side; y: Side; fields: DiffField[] }[] = []
+  const changed: { x: Side; y: Side; fields: BomDiffField[] }[] = []
   let unchanged = 0
   for (const [i, j] of pairs) {
     const fields = changedFields(sa[i]!, sb[j]!)

@@ -1,11 +1,11 @@
 // Money is in whole minor units (pence, cents). Percentages carry at most two decimals and are
 // worked in basis points (2.9 % = 290) so that no float error reaches a price.
 
-export interface Fee { percent: number; fixedMinor: number }
+export interface CardFee { percent: number; fixedMinor: number }
 
 export type CostMethod = 'average' | 'fifo'
 
-export interface Lot { qty: number; unitCostMinor: number; receivedAt: Date | string }
+export interface CostLot { qty: number; unitCostMinor: number; receivedAt: Date | string }
 
 export interface UnitCostResult {
   totalMinor: number
@@ -42,20 +42,20 @@ function percentOf(x: bigint, bp: number): bigint {
   return (x * BigInt(bp) + BP / 2n) / BP
 }
 
-function checkFee(fee: Fee): number {
+function checkFee(fee: CardFee): number {
   nonNegativeMinor(fee.fixedMinor, 'The fixed fee')
   return basisPoints(fee.percent, 'The fee percentage', 100)
 }
 
 /** The card fee on a charge: percent of the charge rounded half-up to a minor unit, plus the fixed part. */
-export function feeOf(chargeMinor: number, fee: Fee): number {
+export function feeOf(chargeMinor: number, fee: CardFee): number {
   const bp = checkFee(fee)
   nonNegativeMinor(chargeMinor, 'The charge')
   return Number(percentOf(BigInt(chargeMinor), bp)) + fee.fixedMinor
 }
 
 /** What the club receives from a charge after the fee (negative when the fee is larger). */
-export function netOf(chargeMinor: number, fee: Fee): number {
+export function netOf(chargeMinor: number, fee: CardFee): number {
   return chargeMinor - feeOf(chargeMinor, fee)
 }
 
@@ -66,7 +66,7 @@ export function netOf(chargeMinor: number, fee: Fee): number {
  * never falls as the charge rises, so a binary search between the two finds the exact answer.
  * A zero net still carries the fixed fee, as any card charge does.
  */
-export function grossUp(netMinor: number, fee: Fee): number {
+export function grossUp(netMinor: number, fee: CardFee): number {
   nonNegativeMinor(netMinor, 'The net amount')
   const bp = checkFee(fee)
   const need = BigInt(netMinor + fee.fixedMinor)
@@ -91,7 +91,7 @@ export function roundUpToStep(minor: number, stepMinor: number): number {
 
 interface CheckedLot { qty: bigint; unit: bigint; time: number; index: number }
 
-function checkLots(lots: Lot[]): CheckedLot[] {
+function checkLots(lots: CostLot[]): CheckedLot[] {
   return lots.map((lot, index) => {
     if (!Number.isSafeInteger(lot.qty) || lot.qty < 0) throw new Error(`Lot ${index + 1}: quantity must be a whole number of 0 or more, got ${lot.qty}.`)
     const scaled = Math.round(lot.unitCostMinor * Number(UNIT_SCALE))
@@ -115,7 +115,7 @@ function scaledToMinor(numerator: bigint, denominator = 1n): number {
  * lots; 'fifo': oldest lots first. Units beyond the lots are costed at the average ('average')
  * or the newest lot's price ('fifo') and the result is flagged as not covered.
  */
-export function unitCost(lots: Lot[], needQty: number, method: CostMethod): UnitCostResult {
+export function unitCost(lots: CostLot[], needQty: number, method: CostMethod): UnitCostResult {
   if (!Number.isSafeInteger(needQty) || needQty < 0) throw new Error(`The quantity needed must be a whole number of 0 or more, got ${needQty}.`)
   const checked = checkLots(lots).sort((a, b) => a.time - b.time || a.index - b.index)
   const held = checked.reduce((sum, l) => sum + l.qty, 0n)
@@ -141,7 +141,7 @@ export function unitCost(lots: Lot[], needQty: number, method: CostMethod): Unit
 
 export interface KitPricingInput {
   lines: { partId: string; qtyPerKit: number }[]
-  lotsByPart: Record<string, Lot[]>
+  lotsByPart: Record<string, CostLot[]>
   method: CostMethod
   extras: { boardMinor: number; enclosureMinor: number; bagMinor: number; labelMinor: number }
   /** extra parts allowed for losses, as a percentage of the parts cost */
@@ -149,7 +149,7 @@ export interface KitPricingInput {
   overheadMinor: number
   /** markup on the cost of one kit */
   marginPercent: number
-  fee: Fee
+  fee: CardFee
   stepMinor: number
   /** taken off the net for members (before the card fee); default 0 */
   memberDiscountPercent?: number

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest'
-import { checkMapping, columnLetter, guessColumns, readRows, type ImportField } from '../../shared/utils/bom-import'
+import { checkImportMapping, columnLetter, guessColumns, readRows, type ImportField } from '../../shared/utils/bom-import'
 
 // Header words are the ones commonly seen in designers' BOM exports (common practice, from
 // memory). Row checks follow the rules written at the top of each function in bom-import.ts;
@@ -32,14 +32,14 @@ describe('guessColumns', () => {
   })
 })
 
-describe('checkMapping', () => {
+describe('checkImportMapping', () => {
   it('a field on two columns is a problem, named by column letters', () => {
-    expect(checkMapping({ 0: 'designators', 1: 'qty', 3: 'qty' })).toEqual(['More than one column is marked as quantity (columns B, D).'])
+    expect(checkImportMapping({ 0: 'designators', 1: 'qty', 3: 'qty' })).toEqual(['More than one column is marked as quantity (columns B, D).'])
   })
 
   it('a mapping needs designators or quantity', () => {
-    expect(checkMapping({ 0: 'value', 1: 'ignore' })).toEqual(['Mark a column as designators or as quantity.'])
-    expect(checkMapping({ 0: 'qty' })).toEqual([])
+    expect(checkImportMapping({ 0: 'value', 1: 'ignore' })).toEqual(['Mark a column as designators or as quantity.'])
+    expect(checkImportMapping({ 0: 'qty' })).toEqual([])
   })
 
   it('column letters go A..Z, AA (spreadsheet convention)', () => {

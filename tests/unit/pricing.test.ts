@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest'
 import fc from 'fast-check'
 import { basisPoints, feeOf, formatMoney, grossUp, netOf, priceKit, roundUpToStep, unitCost, type KitPricingInput } from '../../shared/utils/pricing'
 
-// Fee check values: the derived algebra charge = (net + fixed) / (1 - rate), rounded up to a
+// CardFee check values: the derived algebra charge = (net + fixed) / (1 - rate), rounded up to a
 // whole minor unit (handbook sources.md, "fees"), with the fee's percentage part rounded half-up.
 const card = { percent: 2.9, fixedMinor: 30 }
 
