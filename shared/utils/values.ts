@@ -8,8 +8,8 @@
  *   ('' when neither the text nor the kind tells).
  * - A letter straight after the number is a prefix, not a tolerance: `47K` is 47 kΩ, `47G` is
  *   47 GΩ. Tolerance letters are upper case and come last: `4K7J`, `47KJ`, `100nK`.
- * - An upper-case `F` after a resistance is the 1 % tolerance letter (`4K7F`); after a
- *   capacitance prefix (p n u m) or for a capacitor it is farads (`100nF`).
+ * - An upper-case `F` after R k M G T, or after a bare number for a resistor, is the 1 %
+ *   tolerance letter (`4K7F`, `470F`); after p n u m, or for a capacitor, it is farads (`100nF`).
  * - `R` as a decimal point means ohms, so `4R7` for a capacitor is refused rather than guessed.
  * - Tolerance letter Z (+80/−20 %) is reported as its wider side, 80.
  * - Letter codes (toLetterCode): the letter replaces the decimal point; ohms use R k M G T
@@ -103,8 +103,8 @@ function splitPieces(s: string, text: string): Pieces | null {
 /** An upper-case F after a number is farads or the 1 % tolerance letter; decide which. */
 function fIsTolerance(marker: string | undefined, kind: string | undefined): boolean {
   if (kind === 'capacitor') return false
-  if (kind === 'resistor') return true
-  return marker !== undefined && RESISTANCE_MARKERS.has(marker)
+  if (marker !== undefined) return RESISTANCE_MARKERS.has(marker)
+  return kind === 'resistor'
 }
 
 function resolveUnit(text: string, written: string | undefined, fromMarker: string | undefined, kind: string | undefined): string {
