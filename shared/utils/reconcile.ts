@@ -59,13 +59,15 @@ export function reconcile(input: ReconcileInput): ReconcileResult {
   const kits = input.kits ?? maxKits
   checkDemand(lines, kits)
 
-  net.run(kits, true)
+  // findMaxKits leaves the network holding the own-first flow for maxKits kits.
+  if (kits !== maxKits || maxKits === 0) net.run(kits, true)
   return report(net, kits, maxKits)
 }
 
 function checkLines(lines: ReconcileLine[]) {
   const seen = new Set<string>()
-  for (const [i, l] of lines.entries()) {
+  for (let i = 0; i < lines.length; i++) {
+    const l = lines[i]!
     if (!l || typeof l.id !== 'string' || l.id === '')
       throw new Error(`Line ${i + 1} has no id`)
     if (seen.has(l.id)) throw new Error(`Line id "${l.id}" is used twice`)
@@ -86,7 +88,8 @@ function checkDemand(lines: ReconcileLine[], kits: number) {
 
 function sumStock(stock: ReconcileStock[]): Map<string, number> {
   const sums = new Map<string, number>()
-  for (const [i, s] of stock.entries()) {
+  for (let i = 0; i < stock.length; i++) {
+    const s = stock[i]!
     if (!s || typeof s.partId !== 'string' || s.partId === '')
       throw new Error(`Stock entry ${i + 1} has no part`)
     if (!Number.isSafeInteger(s.available))
@@ -103,7 +106,8 @@ function sumStock(stock: ReconcileStock[]): Map<string, number> {
 /** Own part first, then each distinct stand-in in swap-rule order. */
 function allowedParts(lines: ReconcileLine[], swaps: SwapRule[]): string[][] {
   const standIns = new Map<string, string[]>()
-  for (const [i, s] of swaps.entries()) {
+  for (let i = 0; i < swaps.length; i++) {
+    const s = swaps[i]!
     if (!s || typeof s.from !== 'string' || typeof s.to !== 'string' || s.from === '' || s.to === '')
       throw new Error(`Swap rule ${i + 1} needs both a from and a to part`)
     if (s.from === s.to) continue
@@ -187,6 +191,12 @@ function buildNetwork(lines: ReconcileLine[], allowed: string[][], available: Ma
   const iter = new Int32Array(nodes)
   const queue = new Int32Array(nodes)
 
+  // Sends d units along edge a (negative d takes flow back).
+  const push = (a: number, d: number) => {
+    res[a] = res[a]! - d
+    res[a ^ 1] = res[a ^ 1]! + d
+  }
+
   const bfs = (): boolean => {
     level.fill(-1)
     level[SOURCE] = 0
@@ -215,8 +225,7 @@ function buildNetwork(lines: ReconcileLine[], allowed: string[][], available: Ma
       if (res[a]! > 0 && level[v] === level[u]! + 1) {
         const d = dfs(v, Math.min(f - pushed, res[a]!))
         if (d > 0) {
-          res[a] -= d
-          res[a ^ 1] += d
+          push(a, d)
           pushed += d
           if (pushed === f) return pushed
         }
@@ -258,10 +267,10 @@ function buildNetwork(lines: ReconcileLine[], allowed: string[][], available: Ma
         const d = Math.min(res[a ^ 1]!, res[ownSink]!)
         if (d <= 0) continue
         const standInSink = sinkEdge[to[a]! - 2 - L]!
-        res[a] += d; res[a ^ 1] -= d
-        res[standInSink] += d; res[standInSink ^ 1] -= d
-        res[own] -= d; res[own ^ 1] += d
-        res[ownSink] -= d; res[ownSink ^ 1] += d
+        push(a, -d)
+        push(standInSink, -d)
+        push(own, d)
+        push(ownSink, d)
       }
     }
   }
@@ -295,7 +304,7 @@ function findMaxKits(net: Network): number {
   for (;;) {
     if (k === 0) return 0
     const demand = k * totalQty
-    if (net.run(k) === demand) return k
+    if (net.run(k, true) === demand) return k
     // net.level holds the last BFS, which could not reach the sink: the min cut's source side.
     let q = 0
     let s = 0

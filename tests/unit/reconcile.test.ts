@@ -1,5 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import solver from 'javascript-lp-solver'
+
+type LpResult = { feasible: boolean; result: number }
 import { reconcile, type ReconcileInput, type ReconcileResult } from '../../shared/utils/reconcile'
 
 // Independent oracle: javascript-lp-solver (npm) solving the same kit/stock/stand-in instance
@@ -42,7 +44,7 @@ function oracleMaxKits(input: ReconcileInput): number {
       ints[`x_${i}_${p}`] = 1
     }
   })
-  const r = solver.Solve({ optimize: 'kits', opType: 'max', constraints, variables, ints })
+  const r = solver.Solve({ optimize: 'kits', opType: 'max', constraints, variables, ints }) as LpResult
   if (!r.feasible) throw new Error('oracle: infeasible')
   return Math.round(r.result) + 0 // + 0 turns -0 into 0
 }
@@ -56,7 +58,7 @@ function oracleLeastShortfall(input: ReconcileInput, target: number): number {
     variables[`short_${i}`] = { [`line_${i}`]: 1, total: 1 }
     for (const p of allowedFor(input, i)) variables[`x_${i}_${p}`] = { [`line_${i}`]: 1, [`part_${p}`]: 1 }
   })
-  const r = solver.Solve({ optimize: 'total', opType: 'min', constraints, variables })
+  const r = solver.Solve({ optimize: 'total', opType: 'min', constraints, variables }) as LpResult
   if (!r.feasible) throw new Error('oracle: infeasible')
   return Math.round(r.result) + 0 // + 0 turns -0 into 0
 }
