@@ -17,7 +17,7 @@ const STYLE = `
   dt { font-weight: 600; } dd { margin: 0; }
   pre { white-space: pre-wrap; background: #fff; padding: .8rem; border: 1px solid #dde1e6; }
   iframe { width: 100%; height: 32rem; border: 1px solid #dde1e6; background: #fff; }
-  button { font: inherit; }
+  button { font: inherit; } .att { color: #555; font-size: .85em; }
   form.inline { display: inline; }
 `
 
@@ -37,7 +37,7 @@ export function inboxPage(messages: MailMessage[], to: string | null): string {
   }
   const rows = messages
     .map((m) => `<tr><td><a href="/messages/${encodeURIComponent(m.id)}">${escapeHtml(m.subject || '(no subject)')}</a>${
-      m.attachments.length ? ` <span title="attachments">📎${m.attachments.length}</span>` : ''}</td>
+      m.attachments.length ? ` <span class="att">(${m.attachments.length} attachment${m.attachments.length > 1 ? 's' : ''})</span>` : ''}</td>
 <td>${escapeHtml(m.to.join(', ') || m.envelopeTo.join(', '))}</td><td>${escapeHtml(m.from)}</td>
 <td class="time"><time datetime="${m.date}">${escapeHtml(m.date.replace('T', ' ').slice(0, 19))}</time></td></tr>`)
     .join('\n')

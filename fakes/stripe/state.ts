@@ -239,19 +239,19 @@ export class FakeStripeState {
   }
 
   getRefund(id: string): Refund {
-    return this.refunds.get(id) ?? (() => { throw noSuch('refund', id) })()
+    return found(this.refunds.get(id), 'refund', id)
   }
 
   getPaymentIntent(id: string): PaymentIntent {
-    return this.paymentIntents.get(id) ?? (() => { throw noSuch('payment_intent', id) })()
+    return found(this.paymentIntents.get(id), 'payment_intent', id)
   }
 
   getCharge(id: string): Charge {
-    return this.charges.get(id) ?? (() => { throw noSuch('charge', id) })()
+    return found(this.charges.get(id), 'charge', id)
   }
 
   getEvent(id: string): EventRecord {
-    return this.events.get(id) ?? (() => { throw noSuch('event', id) })()
+    return found(this.events.get(id), 'event', id)
   }
 
   private chargeForRefund(params: FormObject): Charge {
@@ -298,6 +298,11 @@ export class FakeStripeState {
     this.events.set(event.id, record)
     this.webhooks.dispatch(record)
   }
+}
+
+function found<T>(value: T | undefined, kind: string, id: string): T {
+  if (value === undefined) throw noSuch(kind, id)
+  return value
 }
 
 function checkCard(card: string): void {

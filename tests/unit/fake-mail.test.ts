@@ -1,11 +1,11 @@
 // The fake mailbox is checked with the real mailer (nodemailer) over SMTP on loopback; nodemailer's own
 // MIME encoding is the oracle for what the fake must read back.
-import nodemailer from 'nodemailer'
+import nodemailer, { type Transporter } from 'nodemailer'
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest'
 import { startFakeMail, type FakeMail, type MailMessage } from '../../fakes/mail/index'
 
 let fake: FakeMail
-let transport: nodemailer.Transporter
+let transport: Transporter
 
 beforeAll(async () => {
   fake = await startFakeMail({ smtpPort: 0, httpPort: 0, maxMessages: 5 })

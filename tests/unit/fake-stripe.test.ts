@@ -288,6 +288,15 @@ describe('paying and webhooks', () => {
     expect([tooSoon.statusCode, tooSoon.param]).toEqual([400, 'expires_at'])
   })
 
+  it('expires due sessions on its own timer', async () => {
+    const session = await createSession()
+    fake.state.clockOffsetMs += (24 * 3600 + 1) * 1000
+    const deadline = Date.now() + 5000
+    while ((await testEvents()).length === 0 && Date.now() < deadline) await new Promise((r) => setTimeout(r, 20))
+    await fake.webhooksIdle()
+    expect(verifiedEvents().map((e) => [e.type, (e.data.object as { id: string }).id])).toEqual([['checkout.session.expired', session.id]])
+  })
+
   it('tries again after a 500 until the receiver answers 2xx', async () => {
     receiver.answers.push(500)
     const session = await createSession()
