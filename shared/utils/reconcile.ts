@@ -257,20 +257,27 @@ function buildNetwork(lines: ReconcileLine[], allowed: string[][], available: Ma
   }
 
   // Moves stand-in flow back to a line's own part wherever the own part still has stock.
+  // A move frees the stand-in's stock, which may be another line's own part: repeat until
+  // stable (each move raises the total own-part flow, so this ends).
   const preferOwn = () => {
-    for (let i = 0; i < L; i++) {
-      const own = lineOwnEdge[i]!
-      if (own === -1) continue
-      const ownSink = sinkEdge[to[own]! - 2 - L]!
-      for (const a of lineEdges[i]!) {
-        if (a === own || res[ownSink]! <= 0) continue
-        const d = Math.min(res[a ^ 1]!, res[ownSink]!)
-        if (d <= 0) continue
-        const standInSink = sinkEdge[to[a]! - 2 - L]!
-        push(a, -d)
-        push(standInSink, -d)
-        push(own, d)
-        push(ownSink, d)
+    let moved = true
+    while (moved) {
+      moved = false
+      for (let i = 0; i < L; i++) {
+        const own = lineOwnEdge[i]!
+        if (own === -1) continue
+        const ownSink = sinkEdge[to[own]! - 2 - L]!
+        for (const a of lineEdges[i]!) {
+          if (a === own || res[ownSink]! <= 0) continue
+          const d = Math.min(res[a ^ 1]!, res[ownSink]!)
+          if (d <= 0) continue
+          const standInSink = sinkEdge[to[a]! - 2 - L]!
+          push(a, -d)
+          push(standInSink, -d)
+          push(own, d)
+          push(ownSink, d)
+          moved = true
+        }
       }
     }
   }

@@ -77,6 +77,11 @@ function expectValid(input: ReconcileInput, out: ReconcileResult, target: number
     gotOf.set(a.lineId, (gotOf.get(a.lineId) ?? 0) + a.qty)
   }
   for (const [p, used] of usedOf) expect(used).toBeLessThanOrEqual(stock.get(p) ?? 0)
+  // Own part first: a line leans on a stand-in only once its own part is used up.
+  for (const row of out.perLine) {
+    const line = input.lines.find(l => l.id === row.lineId)!
+    if (row.standIns.length > 0) expect(usedOf.get(line.partId) ?? 0).toBe(stock.get(line.partId) ?? 0)
+  }
   for (const line of input.lines) {
     const short = out.shortfall.find(s => s.lineId === line.id)
     const demand = target * line.qtyPerKit
