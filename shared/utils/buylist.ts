@@ -18,14 +18,14 @@ export interface Offer {
   /** The unit price applies when the quantity bought is at least the break's qty. */
   breaks: PriceBreak[]
 }
-export interface Purchase { offerId: string; qty: number; packs: number; unitPriceMinor: number; totalMinor: number; spare: number }
+export interface OfferPurchase { offerId: string; qty: number; packs: number; unitPriceMinor: number; totalMinor: number; spare: number }
 /**
  * rates: the worth of one minor unit of each currency in any common unit. Used only to
  * compare offers in different currencies, never to convert totals.
  */
-export interface CompareOptions { rates?: Record<string, number> }
-export interface PartQty { partId: string; qty: number }
-export interface BuyItem extends Purchase {
+export interface OfferCompareOptions { rates?: Record<string, number> }
+export interface BuyQty { partId: string; qty: number }
+export interface BuyItem extends OfferPurchase {
   partId: string
   /** shortfall plus spares for this part */
   need: number
@@ -33,33 +33,33 @@ export interface BuyItem extends Purchase {
   supplierRef?: string
   currency: string
 }
-export interface SupplierGroup { supplier: string; currency: string; items: BuyItem[]; totalMinor: number }
-export interface BuyListOptions extends CompareOptions {
+export interface BuySupplierGroup { supplier: string; currency: string; items: BuyItem[]; totalMinor: number }
+export interface BuyListOptions extends OfferCompareOptions {
   /** Extra quantities on top of the needs, e.g. from sparesAllowance. */
-  spares?: PartQty[]
+  spares?: BuyQty[]
   /** Consider only offers in this currency. */
   currency?: string
 }
 export interface BuyList {
   items: BuyItem[]
-  bySupplier: SupplierGroup[]
+  bySupplier: BuySupplierGroup[]
   /** The grand total, or null when the items are in more than one currency. */
   totalMinor: number | null
   currency: string | null
   mixedCurrencies: boolean
   totalsByCurrency: { currency: string; totalMinor: number }[]
-  uncovered: PartQty[]
+  uncovered: BuyQty[]
 }
 export interface SpareRule { perKit?: number; percent?: number }
 
-export function bestPurchase(need: number, offers: Offer[], opts: CompareOptions = {}): Purchase | null {
+export function bestPurchase(need: number, offers: Offer[], opts: OfferCompareOptions = {}): OfferPurchase | null {
   if (!Number.isSafeInteger(need) || need < 1)
     throw new Error(`Quantity needed must be a whole number of 1 or more, got ${String(need)}`)
   offers.forEach(checkOffer)
   const parts = new Set(offers.map(o => o.partId))
   if (parts.size > 1) throw new Error(`Offers for one purchase must be for one part, got ${[...parts].join(', ')}`)
   const worth = currencyWorth(offers, opts.rates)
-  let best: Purchase | null = null
+  let best: OfferPurchase | null = null
   let bestWorth = Infinity
   for (const offer of offers) {
     const p = cheapestFromOffer(need, offer)
@@ -78,11 +78,11 @@ export function bestPurchase(need: number, offers: Offer[], opts: CompareOptions
  * thresholds, so the cheapest qty in each price band is the smallest allowed one: the first
  * pack multiple at or above max(need, minQty, first break), or at or above a higher break.
  */
-function cheapestFromOffer(need: number, offer: Offer): Purchase | null {
+function cheapestFromOffer(need: number, offer: Offer): OfferPurchase | null {
   const firstBreak = Math.min(...offer.breaks.map(b => b.qty))
   const base = roundUpToPack(Math.max(need, offer.minQty, firstBreak, 1), offer.packSize)
   const candidates = [base, ...offer.breaks.filter(b => b.qty > base).map(b => roundUpToPack(b.qty, offer.packSize))]
-  let best: Purchase | null = null
+  let best: OfferPurchase | null = null
   for (const qty of candidates) {
     const unit = unitPriceAt(offer, qty)
     if (unit === null) continue
@@ -140,7 +140,7 @@ function currencyWorth(offers: Offer[], rates?: Record<string, number>): (curren
   return c => rates[c]!
 }
 
-export function buyList(needs: PartQty[], offers: Offer[], opts: BuyListOptions = {}): BuyList {
+export function buyList(needs: BuyQty[], offers: Offer[], opts: BuyListOptions = {}): BuyList {
   const wanted = sumQty([...needs, ...(opts.spares ?? [])])
   const offersByPart = new Map<string, Offer[]>()
   for (const o of offers) {
@@ -154,7 +154,7 @@ export function buyList(needs: PartQty[], offers: Offer[], opts: BuyListOptions 
   if (byId.size !== offers.length) throw new Error('Two offers share an id')
 
   const items: BuyItem[] = []
-  const uncovered: PartQty[] = []
+  const uncovered: BuyQty[] = []
   for (const [partId, need] of wanted) {
     if (need === 0) continue
     const p = bestPurchase(need, offersByPart.get(partId) ?? [], opts)
@@ -171,7 +171,7 @@ export function buyList(needs: PartQty[], offers: Offer[], opts: BuyListOptions 
   return { items, ...totals(items), uncovered }
 }
 
-function sumQty(rows: PartQty[]): Map<string, number> {
+function sumQty(rows: BuyQty[]): Map<string, number> {
   const sums = new Map<string, number>()
   for (const r of rows) {
     if (!r || typeof r.partId !== 'string' || r.partId === '') throw new Error('A needed quantity has no part')
@@ -183,7 +183,7 @@ function sumQty(rows: PartQty[]): Map<string, number> {
 }
 
 function totals(items: BuyItem[]) {
-  const groups = new Map<string, SupplierGroup>()
+  const groups = new Map<string, BuySupplierGroup>()
   const perCurrency = new Map<string, number>()
   for (const it of items) {
     const key = JSON.stringify([it.supplier, it.currency])
@@ -218,7 +218,7 @@ export function sparesAllowance(
   lineKinds: { partId: string; kind: string; qtyPerKit: number }[],
   kits: number,
   rule: Record<string, SpareRule>,
-): PartQty[] {
+): BuyQty[] {
   if (!Number.isSafeInteger(kits) || kits < 0)
     throw new Error(`Number of kits must be a whole number of 0 or more, got ${String(kits)}`)
   const parts = new Map<string, { kind: string; qty: number }>()
@@ -230,7 +230,7 @@ export function sparesAllowance(
     else if (p.kind !== l.kind) throw new Error(`Part "${l.partId}" is listed as both ${p.kind} and ${l.kind}`)
     else p.qty += l.qtyPerKit
   }
-  const out: PartQty[] = []
+  const out: BuyQty[] = []
   for (const [partId, { kind, qty }] of parts) {
     const r = rule[kind] ?? rule['*']
     if (!r) continue

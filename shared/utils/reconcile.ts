@@ -18,15 +18,15 @@
 
 export interface ReconcileLine { id: string; partId: string; qtyPerKit: number; allowSwaps?: boolean }
 export interface ReconcileStock { partId: string; available: number }
-export interface SwapRule { from: string; to: string }
+export interface ReconcileSwap { from: string; to: string }
 export interface ReconcileInput {
   lines: ReconcileLine[]
   stock: ReconcileStock[]
-  swaps: SwapRule[]
+  swaps: ReconcileSwap[]
   kits?: number
 }
-export interface LinePart { lineId: string; partId: string; qty: number }
-export interface LineReport {
+export interface ReconcileLinePart { lineId: string; partId: string; qty: number }
+export interface ReconcileLineReport {
   lineId: string
   demand: number
   own: number
@@ -36,9 +36,9 @@ export interface LineReport {
 export interface ReconcileResult {
   maxKits: number
   kits: number
-  allocation: LinePart[]
-  shortfall: LinePart[]
-  perLine: LineReport[]
+  allocation: ReconcileLinePart[]
+  shortfall: ReconcileLinePart[]
+  perLine: ReconcileLineReport[]
 }
 
 const SOURCE = 0
@@ -104,7 +104,7 @@ function sumStock(stock: ReconcileStock[]): Map<string, number> {
 }
 
 /** Own part first, then each distinct stand-in in swap-rule order. */
-function allowedParts(lines: ReconcileLine[], swaps: SwapRule[]): string[][] {
+function allowedParts(lines: ReconcileLine[], swaps: ReconcileSwap[]): string[][] {
   const standIns = new Map<string, string[]>()
   for (let i = 0; i < swaps.length; i++) {
     const s = swaps[i]!
@@ -326,9 +326,9 @@ function findMaxKits(net: Network): number {
 function report(net: Network, kits: number, maxKits: number): ReconcileResult {
   const { lines, lineEdges, lineOwnEdge, partIds, res, to } = net
   const L = lines.length
-  const allocation: LinePart[] = []
-  const shortfall: LinePart[] = []
-  const perLine: LineReport[] = []
+  const allocation: ReconcileLinePart[] = []
+  const shortfall: ReconcileLinePart[] = []
+  const perLine: ReconcileLineReport[] = []
   for (let i = 0; i < L; i++) {
     const line = lines[i]!
     const demand = kits * line.qtyPerKit
