@@ -64,15 +64,21 @@ const FRACTION_RE = new RegExp(`^(\\d+)\\s*/\\s*(\\d+)\\s*${UNIT_RE}?$`)
 const WHOLE_UNIT_MARKERS: Record<string, string> = { R: 'Ω', r: 'Ω', F: 'F', H: 'H', V: 'V', W: 'W', A: 'A' }
 const RESISTANCE_MARKERS = new Set(['R', 'r', 'k', 'K', 'M', 'G', 'T'])
 
+const canonicalCache = new Map<string, string>()
 function canonicalUnit(token: string): string {
-  const t = token.toLowerCase()
-  if (token === 'Ω' || t.startsWith('ohm')) return 'Ω'
-  if (t === 'hz') return 'Hz'
-  return t.toUpperCase()
+  let u = canonicalCache.get(token)
+  if (u === undefined) {
+    const t = token.toLowerCase()
+    u = token === 'Ω' || t.startsWith('ohm') ? 'Ω' : t === 'hz' ? 'Hz' : t.toUpperCase()
+    canonicalCache.set(token, u)
+  }
+  return u
 }
 
+const MICRO_OR_OHM_SIGN = /[\u00B5\u03BC\u2126]/
 function normaliseText(text: string): string {
-  return text.trim().replace(/[\u00B5\u03BC]/g, 'u').replace(/\u2126/g, 'Ω')
+  const s = text.trim()
+  return MICRO_OR_OHM_SIGN.test(s) ? s.replace(/[\u00B5\u03BC]/g, 'u').replace(/\u2126/g, 'Ω') : s
 }
 
 function fail(text: string, why: string): never {
@@ -84,7 +90,13 @@ const GENERIC_HELP = 'write a number with an optional prefix and unit (4.7k, 100
 interface Pieces { mantissa: string; exp: number; unitToken?: string; marker?: string; tol?: string }
 
 function splitPieces(s: string, text: string): Pieces | null {
-  let m = RKM_RE.exec(s)
+  // The three shapes never overlap, so the commonest is tried first.
+  let m = DECIMAL_RE.exec(s)
+  if (m) {
+    const [, num, e, prefix, unitToken, tol] = m
+    return { mantissa: num!, exp: Number(e ?? 0) + (prefix ? PREFIX_EXP[prefix]! : 0), unitToken, marker: prefix, tol }
+  }
+  m = RKM_RE.exec(s)
   if (m) {
     const [, lead, marker, trail, unitToken, tol] = m
     if (!lead && WHOLE_UNIT_MARKERS[marker!] && marker !== 'R' && marker !== 'r') fail(text, `a code cannot start with ${marker}`)
@@ -92,11 +104,6 @@ function splitPieces(s: string, text: string): Pieces | null {
   }
   m = RKM_R_END_RE.exec(s)
   if (m) return { mantissa: m[1]!, exp: 0, marker: 'R', tol: m[2] }
-  m = DECIMAL_RE.exec(s)
-  if (m) {
-    const [, num, e, prefix, unitToken, tol] = m
-    return { mantissa: num!, exp: Number(e ?? 0) + (prefix ? PREFIX_EXP[prefix]! : 0), unitToken, marker: prefix, tol }
-  }
   return null
 }
 
@@ -127,10 +134,10 @@ export function parseValue(text: string, kind?: ValueKind | string): ParsedValue
   if (typeof text !== 'string') throw new Error('A value must be text')
   const s = normaliseText(text)
   if (!s) throw new Error('The value is empty')
-  if (/^[-\u2212]/.test(s)) fail(text, 'values cannot be negative')
+  if (s[0] === '-' || s[0] === '\u2212') fail(text, 'values cannot be negative')
   if (s.includes(',')) fail(text, 'use a point for decimals (4.7k) or a letter code (4k7)')
 
-  const frac = FRACTION_RE.exec(s)
+  const frac = s.includes('/') ? FRACTION_RE.exec(s) : null
   if (frac) {
     const [num, den] = [Number(frac[1]), Number(frac[2])]
     if (den === 0) fail(text, 'division by zero')
