@@ -189,7 +189,8 @@ export function formatValue(value: number, unit: string): string {
   if (!Number.isFinite(value)) throw new Error(`Cannot format ${value} as a value`)
   if (value === 0) return unit ? `0 ${unit}` : '0'
   const sign = value < 0 ? '-' : ''
-  const abs = Math.abs(value)
+  // Rounding first keeps 0.99999999999995 from landing between two prefixes.
+  const abs = roundSig(Math.abs(value))
   let i = Math.floor(Math.log10(abs) / 3) + 4
   i = Math.min(Math.max(i, 0), ENG_PREFIXES.length - 1)
   let m = roundSig(scale(abs, ENG_PREFIXES[i]![0]))
@@ -218,8 +219,9 @@ export function toLetterCode(value: number, unit: string): string {
   if (!markers) throw new Error(`No letter code for unit "${unit}"`)
   if (!Number.isFinite(value) || value < 0) throw new Error(`Cannot write ${value} as a letter code`)
   if (value === 0) return `0${markers[0]![1]}`
+  value = roundSig(value)
   let i = 0
-  while (i + 1 < markers.length && value >= 10 ** markers[i + 1]![0] * (1 - 1e-12)) i++
+  while (i + 1 < markers.length && value >= 10 ** markers[i + 1]![0]) i++
   let m = roundSig(scale(value, markers[i]![0]))
   if (m >= 1000 && i + 1 < markers.length) m = roundSig(scale(value, markers[++i]![0]))
   const digits = String(m)

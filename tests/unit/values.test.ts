@@ -171,7 +171,7 @@ describe('formatValue', () => {
       const v = 10 ** e
       const back = parseValue(formatValue(v, unit), kind)
       return back.unit === unit && close(back.value, v)
-    }), { numRuns: 300 })
+    }), { numRuns: 2000 })
   })
 })
 
@@ -199,7 +199,7 @@ describe('toLetterCode (IEC 60062 RKM; Kitwright writes lower-case k and a trail
       const v = 10 ** e
       const back = parseValue(toLetterCode(v, unit), kind)
       return back.unit === unit && close(back.value, v)
-    }), { numRuns: 300 })
+    }), { numRuns: 2000 })
   })
 })
 
@@ -550,5 +550,16 @@ describe('sameValue (relative 1e-9)', () => {
     expect(sameValue(1e-12, 2e-12)).toBe(false)
     expect(sameValue(0, 0)).toBe(true)
     expect(sameValue(0.1 + 0.2, 0.3)).toBe(true)
+  })
+})
+
+describe('values that round to a prefix boundary (found by the property tests)', () => {
+  it('10^(−2.17e−13) F (just under 1 F) reads back; 0.99999999999999 F is written 1F0 and 1 F', () => {
+    const v = 10 ** -2.171424372811907e-13
+    expect(close(parseValue(toLetterCode(v, 'F'), 'capacitor').value, v)).toBe(true)
+    expect(toLetterCode(0.99999999999999, 'F')).toBe('1F0')
+    expect(formatValue(0.99999999999999, 'F')).toBe('1 F')
+    expect(formatValue(999.99999999999994, 'Ω')).toBe('1 kΩ')
+    expect(toLetterCode(0.000999999999999999, 'F')).toBe('1m0')
   })
 })
