@@ -214,6 +214,7 @@ export function standInsFor(
   if (original && parametricEnabled(original.kind, settings)) {
     for (const c of parts) {
       if (c.kind !== original.kind || c.id === partId || byId.has(c.id)) continue
+      if (stated(original.value) && stated(c.value) && !sameValue(original.value, c.value)) continue
       const v = parametricStandIn(original, c)
       if (!v.ok) continue
       const s: StandIn = { partId: c.id, reason: v.reason, warning: null, source: 'parametric' }
@@ -242,36 +243,53 @@ export function swapPairs(parts: SwapPart[], groups: SwapGroup[], settings: Para
       out.push(pair)
     }
   }
+  const groupFrom = new Set(out.map((p) => p.from))
   const byKind = new Map<string, SwapPart[]>()
+  const seenIds = new Set<string>()
   for (const p of parts) {
-    if (!parametricEnabled(p.kind, settings) || !stated(p.value)) continue
+    if (!parametricEnabled(p.kind, settings) || !stated(p.value) || seenIds.has(p.id)) continue
+    seenIds.add(p.id)
     const list = byKind.get(p.kind) ?? []
     list.push(p)
     byKind.set(p.kind, list)
   }
+  // Parts with the same ratings get the same verdict: judge each pair of rating sets once.
+  const sigIds = new Map<string, number>()
+  const sigOf = new Map<SwapPart, number>()
+  for (const list of byKind.values()) {
+    for (const p of list) {
+      const sig = ratingSignature(p)
+      if (!sigIds.has(sig)) sigIds.set(sig, sigIds.size)
+      sigOf.set(p, sigIds.get(sig)!)
+    }
+  }
+  const verdictCache = new Map<number, { ok: boolean; reason: string }>()
   for (const list of byKind.values()) {
     list.sort((a, b) => a.value! - b.value!)
     for (let start = 0; start < list.length;) {
       let end = start + 1
       while (end < list.length && sameValue(list[start]!.value!, list[end]!.value!)) end++
       for (let i = start; i < end; i++) {
+        const from = list[i]!
         for (let j = start; j < end; j++) {
-          if (i === j) continue
-          const from = list[i]!
           const to = list[j]!
-          const key = `${from.id}\u0000${to.id}`
-          if (index.has(key)) continue
-          const v = parametricStandIn(from, to)
+          if (i === j) continue
+          if (groupFrom.has(from.id) && index.has(`${from.id}\u0000${to.id}`)) continue
+          const cacheKey = sigOf.get(from)! * sigIds.size + sigOf.get(to)!
+          let v = verdictCache.get(cacheKey)
+          if (!v) verdictCache.set(cacheKey, (v = parametricStandIn({ ...from, id: '' }, { ...to, id: ' ' })))
           if (!v.ok) continue
-          const pair: SwapPair = { from: from.id, to: to.id, reason: v.reason, warning: null }
-          index.set(key, pair)
-          out.push(pair)
+          out.push({ from: from.id, to: to.id, reason: v.reason, warning: null })
         }
       }
       start = end
     }
   }
   return out
+}
+
+function ratingSignature(p: SwapPart): string {
+  return [p.kind, p.value, p.tolerancePct, p.powerW, p.voltageV, p.currentA, p.dielectric, p.mounting, p.polarised].join('|')
 }
 
 function pairSet(g: SwapGroup): Set<string> {
