@@ -96,8 +96,10 @@ export const waitlist = mysqlTable('waitlist', {
   state: mysqlEnum('state', ['waiting', 'offered', 'taken', 'lapsed', 'left']).notNull().default('waiting'),
   holdTokenHash: varchar('hold_token_hash', { length: 64 }),
   holdExpiresAt: timestamp('hold_expires_at', { mode: 'date' }),
+  /** The pending order that holds stock and a seat while an offer is open. */
+  orderId: int('order_id').references(() => orders.id, { onDelete: 'set null' }),
   ...timestamps,
-}, t => [index('waitlist_day_idx').on(t.buildDayId, t.state)])
+}, t => [index('waitlist_day_idx').on(t.buildDayId, t.state), uniqueIndex('waitlist_token_uq').on(t.holdTokenHash)])
 
 export const settings = mysqlTable('settings', {
   key: varchar('key', { length: 64 }).primaryKey(),
