@@ -3,7 +3,7 @@ import { eq, inArray } from 'drizzle-orm'
 import type { MySql2Database } from 'drizzle-orm/mysql2'
 import * as schema from '../schema'
 import { loadEffectiveBom } from '../../utils/revision-bom'
-import { newBagCode } from '../../utils/codes'
+import { createBagForOrder } from '../../utils/bags'
 import { PEOPLE } from './data'
 
 const PLAN: { slug: string, option?: string }[] = [
@@ -33,9 +33,7 @@ export async function seedOrders(db: MySql2Database<typeof schema>) {
         memberPrice: user.member, seat: i + 1, stripeSessionId: `cs_demo_${i + 1}`, stripePaymentIntent: `pi_demo_${i + 1}`, paidAt: new Date('2026-11-25T19:00:00Z'),
       }).$returningId()
       await tx.insert(schema.reservations).values(effective.map(l => ({ orderId: order!.id, lineId: Number(l.id), partId: Number(l.partId), qty: l.qty, state: 'confirmed' as const })))
-      const [bag] = await tx.insert(schema.bags).values({ code: newBagCode(), orderId: order!.id, buildDayId: day!.id, revisionId: offering.revisionId }).$returningId()
-      const stageOf = new Map((await tx.select().from(schema.bomLines).where(eq(schema.bomLines.revisionId, offering.revisionId))).map(l => [l.id, l.stageId]))
-      await tx.insert(schema.bagItems).values(effective.map(l => ({ bagId: bag!.id, lineId: Number(l.id), stageId: stageOf.get(Number(l.id)) ?? null, partId: Number(l.partId), qtyNeeded: l.qty })))
+      await createBagForOrder(tx, order!.id)
     })
   }
 }
