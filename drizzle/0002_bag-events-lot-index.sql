@@ -1,0 +1,1 @@
+CREATE INDEX `bag_events_lot_idx` ON `bag_events` (`lot_id`);
