@@ -195,7 +195,8 @@ EOF
   backup|restore)
     common_setup
     shift || true
-    npx tsx server/db/backup.ts "$MODE" "$@"
+    export NUXT_UPLOADS_DIR=${NUXT_UPLOADS_DIR:-$DATA/uploads} KW_BACKUP_DIR=${KW_BACKUP_DIR:-$DATA/backups}
+    server/db/backup.sh "$MODE" "$@"
     ;;
   *)
     die "Unknown command '$MODE'. Use: start (default), test, backup, restore FILE"
