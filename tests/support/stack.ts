@@ -21,6 +21,8 @@ export interface Stack {
   webhookSecret: string
   labelSecret: string
   app: AppProcess
+  /** The environment the app was started with (to start a second process on the same database). */
+  appEnv: Record<string, string>
   mail: FakeMail
   stripe: FakeStripe
   stop(): Promise<void>
@@ -145,6 +147,7 @@ export async function startStack(tag = 'api'): Promise<Stack> {
     webhookSecret,
     labelSecret,
     app,
+    appEnv: env,
     mail,
     stripe,
     async stop() {

@@ -9,6 +9,7 @@ declare module 'vitest' {
     dbUrl: string
     webhookSecret: string
     labelSecret: string
+    appEnv: Record<string, string>
   }
 }
 
@@ -21,6 +22,7 @@ export default async function setup(project: TestProject) {
   project.provide('dbUrl', stack.dbUrl)
   project.provide('webhookSecret', stack.webhookSecret)
   project.provide('labelSecret', stack.labelSecret)
+  project.provide('appEnv', stack.appEnv)
   return async () => {
     await stack.stop()
   }
