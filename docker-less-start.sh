@@ -6,6 +6,7 @@
 #   ./docker-less-start.sh test     set up and run every test layer (unit, API, browser); exits non-zero on failure
 #   ./docker-less-start.sh backup   write a backup (database dump + uploads) to .data/backups/
 #   ./docker-less-start.sh restore FILE   restore a backup made by "backup"
+#   ./docker-less-start.sh check    check that stock, ledger, reservations, orders and bags agree
 set -euo pipefail
 cd "$(dirname "$0")"
 ROOT=$PWD
@@ -192,6 +193,10 @@ EOF
     if [ $status -ne 0 ]; then say "Some tests failed"; else say "All test layers passed"; fi
     exit $status
     ;;
+  check)
+    common_setup
+    npx tsx server/db/check.ts
+    ;;
   backup|restore)
     common_setup
     shift || true
@@ -199,6 +204,6 @@ EOF
     server/db/backup.sh "$MODE" "$@"
     ;;
   *)
-    die "Unknown command '$MODE'. Use: start (default), test, backup, restore FILE"
+    die "Unknown command '$MODE'. Use: start (default), test, check, backup, restore FILE"
     ;;
 esac
