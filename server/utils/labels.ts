@@ -300,7 +300,7 @@ function drawTexts(doc: PDFKit.PDFDocument, text: TextFitter, label: Label, area
   const hMm = area.h / PT
   const bottom = area.y + area.h
   const inset = tone === 'bag' ? 1.1 * PT : 0
-  const codeMax = tone === 'bin' ? Math.min(28, hMm * 1.3) : Math.min(20, hMm * 0.95)
+  const codeMax = tone === 'bin' ? Math.min(32, hMm * 1.3) : Math.min(24, hMm * 0.95)
   const code = text.fitPair(main, sig, area.w - 2 * inset, codeMax, 7)
   let baseline = area.y + inset + CAP * code.size
   if (tone === 'bag') {
@@ -313,25 +313,25 @@ function drawTexts(doc: PDFKit.PDFDocument, text: TextFitter, label: Label, area
   let below = baseline + inset + (tone === 'bag' ? 0 : DESCENT * code.size * 0.5)
 
   if (label.title.trim()) {
-    const title = text.fit('B', label.title, area.w, Math.min(11, Math.max(6.5, hMm * 0.3)), 6.5)
+    const title = text.fit('B', label.title, area.w, Math.min(14, Math.max(6.5, hMm * 0.3)), 6.5)
     const titleBaseline = below + 0.25 * title.size + CAP * title.size
     if (titleBaseline + DESCENT * title.size * 0.5 <= bottom) {
       text.draw('B', title.text, title.size, area.x, titleBaseline)
       below = titleBaseline + DESCENT * title.size
     }
   }
-  drawLines(text, label.lines.filter(s => s.trim() !== ''), area, below)
+  drawLines(text, label.lines.filter(s => s.trim() !== ''), area, below, Math.min(10, Math.max(7.5, hMm * 0.2)))
 }
 
 const LINE_PITCH = 1.2
 
-/** Small lines: the largest size from 7.5 pt down to 5.5 pt that shows them all, else as many as fit ending in "…". */
-function drawLines(text: TextFitter, lines: string[], area: Box, below: number): void {
+/** Small lines: the largest size from `max` down to 5.5 pt that shows them all, else as many as fit ending in "…". */
+function drawLines(text: TextFitter, lines: string[], area: Box, below: number, max: number): void {
   if (lines.length === 0) return
   const bottom = area.y + area.h
   const firstBaseline = (size: number) => below + 0.2 * size + CAP * size
   const lastBaseline = (size: number, n: number) => firstBaseline(size) + (n - 1) * LINE_PITCH * size
-  let size = 7.5
+  let size = max
   while (size > 5.5 && lastBaseline(size, lines.length) + DESCENT * size * 0.5 > bottom) size -= 0.5
   let fits = lines.length
   while (fits > 0 && lastBaseline(size, fits) + DESCENT * size * 0.5 > bottom) fits--
