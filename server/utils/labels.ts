@@ -118,7 +118,7 @@ export async function renderLabels(labels: Label[], layout: SheetLayout, opts: R
   if (!Number.isInteger(startAt) || startAt < 0 || startAt >= perPage)
     throw new Error(`startAt must be a whole number from 0 to ${perPage - 1} (the positions on one sheet)`)
   const copies = expandCopies(labels)
-  const fonts = opts.fonts ?? loadFonts()
+  const fonts = opts.fonts ? { regular: woffToSfnt(opts.fonts.regular), bold: woffToSfnt(opts.fonts.bold) } : loadFonts()
   const g = layoutGeometry(layout)
 
   // font: null keeps pdfkit from loading its standard Helvetica: the PDF holds Roboto only.

@@ -280,3 +280,12 @@ describe('woffToSfnt', () => {
     expect(woffToSfnt(sfnt)).toBe(sfnt)
   })
 })
+
+describe('renderLabels with fonts passed in', () => {
+  it('uses the given WOFF files (as a Nitro route would read them from server assets)', async () => {
+    const read = (w: number) => readFileSync(new URL(`../../server/assets/fonts/roboto-latin-${w}-normal.woff`, import.meta.url))
+    const pdf = await renderLabels([bagLabel('B7K3QX')], layout('thermal-62x29'), { fonts: { regular: read(400), bold: read(700) } })
+    expect(pdf.includes('Roboto-Bold')).toBe(true)
+    expect(pdfText(pdf, 'given-fonts').replace(/\s/g, '')).toContain(signCode('bag', 'B7K3QX', SECRET))
+  })
+})
