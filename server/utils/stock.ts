@@ -1,7 +1,9 @@
 import { and, eq, gte, inArray, sql } from 'drizzle-orm'
 import { createError } from 'h3'
+import { z } from 'zod'
 import * as schema from '../db/schema'
 import type { Tx } from './db'
+import { isBinCode, looksLikeBareCode, readScan } from './codes'
 
 export type LedgerKind = (typeof schema.LEDGER_KINDS)[number]
 
@@ -61,4 +63,201 @@ export async function availableByPart(tx: Pick<Tx, 'select'>, partIds?: number[]
     map.set(r.partId, e)
   }
   return map
+}
+
+type Reader = Pick<Tx, 'select'>
+type Runner = { transaction: <T>(fn: (tx: Tx) => Promise<T>) => Promise<T> }
+
+const LOCK_ERRORS = new Set(['ER_LOCK_DEADLOCK', 'ER_LOCK_WAIT_TIMEOUT'])
+
+/**
+ * Runs fn in one transaction, retrying a few times when MariaDB picks it as a deadlock victim
+ * (two moves between the same two bins in opposite directions lock the same lots in opposite order).
+ */
+export async function runStockTx<T>(db: Runner, fn: (tx: Tx) => Promise<T>, attempts = 4): Promise<T> {
+  for (let i = 1; ; i++) {
+    try {
+      return await db.transaction(fn)
+    }
+    catch (err) {
+      const code = (err as { code?: string, cause?: { code?: string } }).cause?.code ?? (err as { code?: string }).code
+      if (!code || !LOCK_ERRORS.has(code) || i >= attempts) {
+        if (code && LOCK_ERRORS.has(code)) throw createError({ statusCode: 409, statusMessage: 'Busy', message: 'Someone else is moving this stock right now: try again' })
+        throw err
+      }
+      await new Promise(r => setTimeout(r, 10 * i + Math.floor(Math.random() * 20)))
+    }
+  }
+}
+
+function bad(message: string, field?: string): never {
+  throw createError({ statusCode: 400, statusMessage: 'Invalid input', message, data: field ? { fields: { [field]: message } } : undefined })
+}
+
+/** A bin by id, or a 400 naming the field (for forms that send a bin id). */
+export async function binOrRefuse(tx: Reader, binId: number, field = 'binId') {
+  const [bin] = await tx.select().from(schema.bins).where(eq(schema.bins.id, binId))
+  if (!bin) bad(`There is no bin ${binId}: add it on the Bins page first`, field)
+  return bin
+}
+
+export interface Receipt {
+  binId: number
+  partId: number
+  qty: number
+  unitCostMinor: number
+  currency: string
+  supplier?: string | null
+  supplierRef?: string | null
+  receivedOn: string
+  note?: string | null
+}
+
+/** Receives a new lot into a bin: the lot row and its 'receive' ledger row, in the caller's transaction. */
+export async function receiveLot(tx: Tx, r: Receipt, userId: number | null) {
+  await binOrRefuse(tx, r.binId)
+  const [part] = await tx.select({ id: schema.parts.id }).from(schema.parts).where(eq(schema.parts.id, r.partId))
+  if (!part) bad(`There is no part ${r.partId} in the catalogue`, 'partId')
+  const [row] = await tx.insert(schema.lots).values({
+    partId: r.partId, binId: r.binId, qtyReceived: r.qty, onHand: 0, unitCostMinor: r.unitCostMinor, currency: r.currency,
+    supplier: r.supplier || null, supplierRef: r.supplierRef || null, receivedOn: r.receivedOn, note: r.note || null,
+  }).$returningId()
+  await moveStock(tx, { lotId: row!.id, qty: r.qty, kind: 'receive', userId, reason: r.note || 'Received' })
+  return row!.id
+}
+
+export interface LotMove { lotId: number, toBinId: number, qty: number, userId: number | null, reason?: string | null }
+
+/**
+ * Moves part of a lot to another bin in the caller's transaction: 'move-out' of the source lot,
+ * 'move-in' to the target bin's lot of the same part, cost, supplier and receipt date (made when
+ * there is none, so costing by receipt date still holds). The target bin's row is locked while
+ * the lot is looked up, so two moves into one bin never make twin lots.
+ */
+export async function moveLot(tx: Tx, m: LotMove) {
+  if (!Number.isInteger(m.qty) || m.qty <= 0) bad('Move a whole number of parts, 1 or more', 'qty')
+  const [src] = await tx.select().from(schema.lots).where(eq(schema.lots.id, m.lotId))
+  if (!src) throw createError({ statusCode: 404, statusMessage: 'Not found', message: `There is no lot ${m.lotId}` })
+  if (src.binId === m.toBinId) bad('The lot is already in that bin: choose another bin', 'toBin')
+  const reason = m.reason || null
+  await moveStock(tx, { lotId: src.id, qty: -m.qty, kind: 'move-out', userId: m.userId, reason })
+  const [bin] = await tx.select().from(schema.bins).where(eq(schema.bins.id, m.toBinId)).for('update')
+  if (!bin) bad(`There is no bin ${m.toBinId}: add it on the Bins page first`, 'toBin')
+  const L = schema.lots
+  const [twin] = await tx.select({ id: L.id }).from(L).where(and(
+    eq(L.binId, bin.id), eq(L.partId, src.partId), eq(L.unitCostMinor, src.unitCostMinor), eq(L.currency, src.currency),
+    sql`${L.supplier} <=> ${src.supplier}`, sql`${L.supplierRef} <=> ${src.supplierRef}`, eq(L.receivedOn, src.receivedOn),
+  )).orderBy(L.id).limit(1).for('update')
+  let toLotId = twin?.id
+  if (!toLotId) {
+    const [row] = await tx.insert(L).values({
+      partId: src.partId, binId: bin.id, qtyReceived: 0, onHand: 0, unitCostMinor: src.unitCostMinor, currency: src.currency,
+      supplier: src.supplier, supplierRef: src.supplierRef, receivedOn: src.receivedOn, note: `Moved from lot ${src.id}`,
+    }).$returningId()
+    toLotId = row!.id
+  }
+  await moveStock(tx, { lotId: toLotId, qty: m.qty, kind: 'move-in', userId: m.userId, reason })
+  return { fromLotId: src.id, toLotId, toBinId: bin.id, qty: m.qty }
+}
+
+export interface BinCount { lotId: number, expected: number, counted: number }
+
+/**
+ * Applies a count sheet: for each lot whose counted quantity differs from its on-hand, a 'count'
+ * ledger row for the difference. `expected` is what the sheet showed; when the lot has changed
+ * since, the count is refused (409) so nobody overwrites a movement they did not see.
+ */
+export async function countBin(tx: Tx, c: { binId: number, counts: BinCount[], reason: string, userId: number | null }) {
+  const bin = await binOrRefuse(tx, c.binId)
+  if (!c.counts.length) return []
+  const ids = c.counts.map(x => x.lotId)
+  if (new Set(ids).size !== ids.length) bad('A lot is listed twice on the count sheet', 'counts')
+  const lots = await tx.select({ id: schema.lots.id, binId: schema.lots.binId, onHand: schema.lots.onHand })
+    .from(schema.lots).where(inArray(schema.lots.id, ids)).orderBy(schema.lots.id).for('update')
+  const byId = new Map(lots.map(l => [l.id, l]))
+  const adjustments: { lotId: number, from: number, to: number, qty: number }[] = []
+  for (const x of c.counts) {
+    const lot = byId.get(x.lotId)
+    if (!lot || lot.binId !== bin.id) bad(`Lot ${x.lotId} is not in bin ${bin.code}`, 'counts')
+    if (lot.onHand !== x.expected) {
+      throw createError({
+        statusCode: 409, statusMessage: 'Stock changed',
+        message: `Lot ${x.lotId} changed while you counted: the sheet showed ${x.expected}, the ledger now says ${lot.onHand}. Reload the count sheet and count that lot again.`,
+        data: { lotId: x.lotId, expected: x.expected, onHand: lot.onHand },
+      })
+    }
+    if (x.counted === lot.onHand) continue
+    if (c.reason.trim().length < 3) bad('Say why the count differs, in a few words', 'reason')
+    const qty = x.counted - lot.onHand
+    await moveStock(tx, { lotId: lot.id, qty, kind: 'count', userId: c.userId, reason: c.reason })
+    adjustments.push({ lotId: lot.id, from: lot.onHand, to: x.counted, qty })
+  }
+  return adjustments
+}
+
+/**
+ * Everything wrong with stock, as sentences (empty when sound): a lot whose cached on-hand differs
+ * from its ledger sum, a negative on-hand, a lot whose ledger ever ran below zero (rows in id order),
+ * and ledger rows naming another part or bin than their lot. For tests and health checks.
+ */
+export async function checkStockInvariants(db: Reader): Promise<string[]> {
+  const problems: string[] = []
+  const sums = await db.select({
+    id: schema.lots.id, onHand: schema.lots.onHand,
+    ledger: sql<number>`cast(coalesce(sum(${schema.ledger.qty}), 0) as signed)`,
+  }).from(schema.lots).leftJoin(schema.ledger, eq(schema.ledger.lotId, schema.lots.id)).groupBy(schema.lots.id, schema.lots.onHand)
+  for (const s of sums) {
+    if (s.onHand < 0) problems.push(`Lot ${s.id} holds ${s.onHand} (below zero)`)
+    if (Number(s.ledger) !== s.onHand) problems.push(`Lot ${s.id} says ${s.onHand} on hand but its ledger adds up to ${Number(s.ledger)}`)
+  }
+  const G = schema.ledger
+  const running = db.select({
+    lotId: G.lotId,
+    running: sql<number>`sum(${G.qty}) over (partition by ${G.lotId} order by ${G.id})`.as('running'),
+  }).from(G).as('running_sums')
+  const dips = await db.select({ lotId: running.lotId, low: sql<number>`cast(min(${running.running}) as signed)` })
+    .from(running).groupBy(running.lotId).having(sql`min(${running.running}) < 0`)
+  for (const d of dips) problems.push(`Lot ${d.lotId}'s ledger runs below zero (to ${Number(d.low)})`)
+  const strays = await db.select({ id: schema.ledger.id, lotId: schema.ledger.lotId }).from(schema.ledger)
+    .innerJoin(schema.lots, eq(schema.lots.id, schema.ledger.lotId))
+    .where(sql`${schema.ledger.partId} <> ${schema.lots.partId} or ${schema.ledger.binId} <> ${schema.lots.binId}`)
+  for (const s of strays) problems.push(`Ledger row ${s.id} names another part or bin than lot ${s.lotId}`)
+  return problems
+}
+
+/**
+ * The bin a scan or a typed code names: a signed label (URL, path or token, checked against the
+ * label secret) or a bare bin code typed by hand. 400 for a bag label or a bad signature, 404 for
+ * a code no bin has.
+ */
+export async function findBinByScan(db: Reader, text: string, secret: string) {
+  const typed = text.trim().toUpperCase()
+  let code: string
+  if (looksLikeBareCode(typed) && isBinCode(typed)) {
+    code = typed
+  }
+  else {
+    const read = readScan(text, secret)
+    if ('error' in read) bad(`That is not a bin: ${read.error}`, 'bin')
+    if (read.kind !== 'bin') bad('That is a bag label, not a bin label: scan the label on the bin', 'bin')
+    code = read.code
+  }
+  const [bin] = await db.select().from(schema.bins).where(eq(schema.bins.code, code))
+  if (!bin) throw createError({ statusCode: 404, statusMessage: 'Not found', message: `There is no bin ${code}: add it on the Bins page first`, data: { fields: { bin: `There is no bin ${code}` } } })
+  return bin
+}
+
+/** A bin as the bins form sends it: the code is upper-cased and must read back from a label. */
+export const binBody = z.object({
+  code: z.string({ error: 'Give the bin a code' }).trim().toUpperCase().min(1, 'Give the bin a code, e.g. A-03')
+    .refine(isBinCode, 'Use 1–16 letters, digits and dashes inside, e.g. A-03')
+    .refine(looksLikeBareCode, 'A code ending in a dash and 8 characters would read as a label signature: shorten it'),
+  place: z.string().trim().max(160, 'Keep the place under 160 characters').default(''),
+  walkOrder: z.coerce.number({ error: 'Give a number' }).int('Use a whole number').min(0, 'Use 0 or more').max(1_000_000).default(0),
+})
+
+/** True for MariaDB's duplicate-key error (a unique index refused the row). */
+export function isDuplicateKey(err: unknown): boolean {
+  const e = err as { code?: string, cause?: { code?: string } }
+  return (e?.cause?.code ?? e?.code) === 'ER_DUP_ENTRY'
 }
