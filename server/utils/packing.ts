@@ -1,0 +1,438 @@
+import { and, asc, desc, eq, inArray, isNull, or, sql } from 'drizzle-orm'
+import { createError, setResponseHeader, setResponseHeaders, setResponseStatus, type H3Event } from 'h3'
+import { z } from 'zod'
+import * as schema from '../db/schema'
+import { bagSwapPart, bagTotals, COUNTED_SINGLY, loadBagHeaders, loadBagItems, pendingByLot, planPicks, pouchesOf, loadSwapRules, standInVerdict, type BagItemRow } from './bags'
+import { isBagCode, looksLikeBareCode, readScan } from './codes'
+import { SHEET_LAYOUTS, validateLayout, type SheetLayout } from './labels'
+import { moveStock } from './stock'
+import type { Db, Tx } from './db'
+
+/** A claim on a bag lapses after this long without a scan (KW_CLAIM_MINUTES, default 10). */
+export const CLAIM_LAPSE_SECONDS = Math.max(30, Math.round(Number(process.env.KW_CLAIM_MINUTES || 10) * 60))
+
+export type RefusalReason = 'not-a-label' | 'unknown' | 'other-day' | 'order' | 'sealed' | 'claimed' | 'no-bag' | 'wrong-bin'
+  | 'line-done' | 'over-count' | 'bin-short' | 'nothing-to-undo' | 'incomplete' | 'not-sealed'
+
+const STATUS_TEXT: Record<number, string> = { 400: 'Not a label', 404: 'Not found', 409: 'Refused', 423: 'Claimed by another packer' }
+
+function refuse(statusCode: number, reason: RefusalReason, message: string, extra: Record<string, unknown> = {}) {
+  return createError({ statusCode, statusMessage: STATUS_TEXT[statusCode] ?? 'Refused', message, data: { reason, ...extra } })
+}
+
+export interface Packer { id: number, name: string }
+export interface ScanInput { text: string, buildDayId: number, bagId?: number, itemId?: number, qty?: number, confirmStandIn?: boolean }
+export type BagView = Awaited<ReturnType<typeof bagView>>
+
+/** The bag as the station shows it: header, pouches with lines and suggested bins, totals, the scan undo would take back. */
+export async function bagView(db: Db, bagId: number) {
+  const [[bag], items, lastPack] = await Promise.all([
+    loadBagHeaders(db, { ids: [bagId] }, CLAIM_LAPSE_SECONDS),
+    loadBagItems(db, [bagId]),
+    lastPackEvent(db, bagId),
+  ])
+  if (!bag) throw refuse(404, 'unknown', 'There is no such bag')
+  const bins = new Map<number, string[]>()
+  if (bag.state === 'open' || bag.state === 'packing') {
+    const plan = await planPicks(db, [bagId], { items })
+    for (const r of plan.rows) if (r.binCode && !bins.get(r.itemId)?.includes(r.binCode)) bins.set(r.itemId, [...(bins.get(r.itemId) ?? []), r.binCode])
+  }
+  return { bag, pouches: pouchesOf(items, bins), totals: bagTotals(items), lastPack, claimLapseSeconds: CLAIM_LAPSE_SECONDS }
+}
+
+async function lastPackEvent(db: Db, bagId: number) {
+  const E = schema.bagEvents
+  const [ev] = await db.select({ id: E.id, qty: E.qty, itemId: E.bagItemId, binCode: schema.bins.code, partName: schema.parts.name, at: E.createdAt })
+    .from(E).leftJoin(schema.bins, eq(schema.bins.id, E.binId)).leftJoin(schema.parts, eq(schema.parts.id, E.partId))
+    .where(and(eq(E.bagId, bagId), eq(E.kind, 'pack'), eq(E.undone, 0))).orderBy(desc(E.id)).limit(1)
+  return ev ?? null
+}
+
+/**
+ * One scan at the packing station. A bag label claims the bag; a bin label packs into the current bag
+ * the line its part (or an allowed stand-in) serves, or asks the packer to confirm a count or a stand-in
+ * first. Every refusal is recorded on the bag it concerns and thrown with `data.reason`.
+ */
+export async function scan(db: Db, packer: Packer, input: ScanInput, secret: string) {
+  let concerns = input.bagId
+  try {
+    const read = readScan(input.text, secret)
+    if ('error' in read) {
+      const typed = input.text.trim()
+      throw refuse(400, 'not-a-label', looksLikeBareCode(typed)
+        ? `"${typed.toUpperCase()}" is only the code: type the whole text under the QR code, with the 8 characters after the dash`
+        : `${read.error[0]!.toUpperCase()}${read.error.slice(1)}.`)
+    }
+    if (read.kind === 'bag') {
+      const [h] = await loadBagHeaders(db, { codes: [read.code] }, CLAIM_LAPSE_SECONDS)
+      concerns = h?.id
+      return await scanBag(db, packer, read.code, h, input.buildDayId)
+    }
+    return await scanBin(db, packer, read.code, input)
+  }
+  catch (err) {
+    if (concerns) await recordRefusal(db, concerns, packer.id, err)
+    throw err
+  }
+}
+
+async function recordRefusal(db: Db, bagId: number, userId: number, err: unknown) {
+  const e = err as { statusCode?: number, message?: string }
+  if (!e.statusCode || e.statusCode >= 500) return
+  try {
+    await db.insert(schema.bagEvents).values({ bagId, kind: 'refused', userId, note: (e.message ?? 'refused').slice(0, 255) })
+  }
+  catch { /* the refusal itself is what the packer needs; its audit row is best effort */ }
+}
+
+type Header = Awaited<ReturnType<typeof loadBagHeaders>>[number]
+
+function checkBag(h: Header | undefined, code: string, buildDayId: number, packerId: number): asserts h is Header {
+  if (!h) throw refuse(404, 'unknown', `Bag ${code} is not in Kitwright: set it aside and tell an organiser`)
+  if (h.buildDayId !== buildDayId)
+    throw refuse(409, 'other-day', `Bag ${h.code} belongs to ${h.buildDayName} (${h.buildDayDate}), not to the build day this station is packing`, { bagId: h.id })
+  if (h.state === 'sealed' || h.state === 'collected')
+    throw refuse(409, 'sealed', `Bag ${h.code} is already sealed${h.sealedByName ? ` (by ${h.sealedByName})` : ''}: an organiser can unseal it from the bag's page`, { bagId: h.id })
+  if (h.orderState !== 'paid')
+    throw refuse(409, 'order', `The order for bag ${h.code} is ${h.orderState}: put the bag aside and tell an organiser`, { bagId: h.id })
+  if (h.claim && h.claim.userId !== packerId) throw claimedBy(h.code, h.claim.name)
+}
+
+function claimedBy(code: string, name: string) {
+  return refuse(423, 'claimed', `${name} is packing bag ${code}. Their claim lapses after ${Math.round(CLAIM_LAPSE_SECONDS / 60)} minutes without a scan.`)
+}
+
+async function scanBag(db: Db, packer: Packer, code: string, h: Header | undefined, buildDayId: number) {
+  checkBag(h, code, buildDayId, packer.id)
+  await db.transaction(async (tx) => {
+    await claim(tx, h.id, packer.id)
+    await releaseOthers(tx, h.id, packer.id)
+    await tx.insert(schema.bagEvents).values({ bagId: h.id, kind: 'claim', userId: packer.id })
+  })
+  return { outcome: 'bag' as const, bag: await bagView(db, h.id) }
+}
+
+const lapsed = () => sql`${schema.bags.claimedAt} < now() - interval ${CLAIM_LAPSE_SECONDS} second`
+
+/** Claims (or renews the claim on) a bag inside the caller's transaction; the row lock serialises every write to the bag. */
+async function claim(tx: Tx, bagId: number, userId: number) {
+  const B = schema.bags
+  const [res] = await tx.update(B).set({ claimedBy: userId, claimedAt: sql`now()`, state: 'packing' })
+    .where(and(eq(B.id, bagId), inArray(B.state, ['open', 'packing']), or(isNull(B.claimedBy), eq(B.claimedBy, userId), lapsed())))
+  if (res.affectedRows === 1) return
+  const [h] = await loadBagHeaders(tx as unknown as Db, { ids: [bagId] }, CLAIM_LAPSE_SECONDS)
+  if (!h) throw refuse(404, 'unknown', 'There is no such bag')
+  if (h.state === 'sealed' || h.state === 'collected') throw refuse(409, 'sealed', `Bag ${h.code} has just been sealed`, { bagId })
+  throw claimedBy(h.code, h.claim?.name ?? 'Another packer')
+}
+
+/** A packer packs one bag at a time: claiming one lets go of the others (back to "not started" when nothing is in them). */
+async function releaseOthers(tx: Tx, keepBagId: number, userId: number) {
+  await tx.execute(sql`update bags b set b.claimed_by = null, b.claimed_at = null,
+    b.state = if(exists(select 1 from bag_items i where i.bag_id = b.id and i.qty_packed > 0), 'packing', 'open')
+    where b.claimed_by = ${userId} and b.id <> ${keepBagId} and b.state in ('open', 'packing')`)
+}
+
+/** Lets go of a bag (the packer's "done for now"). */
+export async function releaseBag(db: Db, bagId: number, packer: Packer) {
+  await db.transaction(async (tx) => {
+    await claim(tx, bagId, packer.id)
+    await releaseOthers(tx, -1, packer.id)
+    await tx.insert(schema.bagEvents).values({ bagId, kind: 'release', userId: packer.id })
+  })
+  return bagView(db, bagId)
+}
+
+interface Candidate { item: BagItemRow, partId: number, partName: string, standIn: { warning: string | null } | null }
+
+async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
+  if (!input.bagId) throw refuse(409, 'no-bag', `That is bin ${code}: scan a bag's label first`)
+  const [[h], [bin], items] = await Promise.all([
+    loadBagHeaders(db, { ids: [input.bagId] }, CLAIM_LAPSE_SECONDS),
+    db.select().from(schema.bins).where(eq(schema.bins.code, code)),
+    loadBagItems(db, [input.bagId]),
+  ])
+  checkBag(h, `#${input.bagId}`, input.buildDayId, packer.id)
+  if (!bin) throw refuse(404, 'unknown', `Bin ${code} is not in Kitwright: check its label`)
+  const lots = await db.select().from(schema.lots).where(eq(schema.lots.binId, bin.id)).orderBy(asc(schema.lots.receivedOn), asc(schema.lots.id))
+  const candidates = await binCandidates(db, items, lots.map(l => l.partId), input.itemId)
+  if (!candidates.length) throw await wrongBin(db, code, items, lots.map(l => l.partId), input.itemId)
+  const pick = candidates[0]!
+  const remaining = pick.item.qtyNeeded - pick.item.qtyPacked
+  const prompt = { item: pick.item, binCode: code, partId: pick.partId, partName: pick.partName, standIn: pick.standIn, remaining }
+
+  if (pick.standIn && pick.item.standInPartId !== pick.partId && !input.confirmStandIn)
+    return { outcome: 'stand-in' as const, ...prompt, qty: countsSingly(pick.item) ? 1 : remaining }
+  const qty = input.qty ?? (countsSingly(pick.item) || remaining === 1 ? 1 : null)
+  if (qty === null) return { outcome: 'count' as const, ...prompt, qty: remaining }
+  if (qty > remaining)
+    throw refuse(409, 'over-count', `${pick.item.designators} needs ${remaining} more; ${qty} is too many. Put back ${qty - remaining}.`, { itemId: pick.item.itemId, remaining })
+
+  const lot = await chooseLot(db, lots.filter(l => l.partId === pick.partId), qty, code, pick.partName)
+  await db.transaction(async (tx) => {
+    await claim(tx, h.id, packer.id)
+    const I = schema.bagItems
+    const [res] = await tx.update(I).set({
+      qtyPacked: sql`${I.qtyPacked} + ${qty}`,
+      ...(pick.standIn ? { standInPartId: pick.partId, standInWarning: pick.standIn.warning?.slice(0, 255) ?? null } : {}),
+    }).where(and(eq(I.id, pick.item.itemId), eq(I.bagId, h.id), sql`${I.qtyPacked} + ${qty} <= ${I.qtyNeeded}`))
+    if (res.affectedRows !== 1)
+      throw refuse(409, 'over-count', `${pick.item.designators} was packed meanwhile: ${qty} more would be too many`, { itemId: pick.item.itemId })
+    await tx.insert(schema.bagEvents).values({ bagId: h.id, bagItemId: pick.item.itemId, kind: 'pack', lotId: lot.id, binId: bin.id, partId: pick.partId, qty, userId: packer.id, note: pick.standIn ? 'stand-in' : null })
+  })
+  return packed(db, h.id, packer, { itemId: pick.item.itemId, designators: pick.item.designators, qty, binCode: code, partName: pick.partName, standIn: pick.standIn })
+}
+
+function countsSingly(item: BagItemRow) {
+  return COUNTED_SINGLY.includes(item.kind)
+}
+
+/** After a pack: the updated bag, sealed at once when every line is done. */
+async function packed(db: Db, bagId: number, packer: Packer, what: Record<string, unknown>) {
+  let bag = await bagView(db, bagId)
+  let sealError: string | null = null
+  if (bag.totals.lines > 0 && bag.totals.packed === bag.totals.needed) {
+    try {
+      await sealBag(db, bagId, packer)
+      bag = await bagView(db, bagId)
+    }
+    catch (err) {
+      sealError = (err as Error).message
+    }
+  }
+  return { outcome: 'packed' as const, packed: what, bag, sealed: bag.bag.state === 'sealed', sealError }
+}
+
+/** Open lines this bin's parts serve: own part first, then allowed stand-ins, in pouch order. */
+async function binCandidates(db: Db, items: BagItemRow[], binPartIds: number[], itemId?: number): Promise<Candidate[]> {
+  const open = items.filter(i => i.qtyPacked < i.qtyNeeded && (itemId === undefined || i.itemId === itemId))
+  const partIds = [...new Set(binPartIds)]
+  if (!open.length || !partIds.length) return []
+  const parts = await db.select().from(schema.parts).where(inArray(schema.parts.id, [...new Set([...partIds, ...open.map(i => i.partId)])]))
+  const byId = new Map(parts.map(p => [p.id, p]))
+  const own: Candidate[] = []
+  const standIns: Candidate[] = []
+  const rules = await loadSwapRules(db)
+  for (const p of partIds) {
+    for (const item of open) {
+      if (item.partId === p) own.push({ item, partId: p, partName: byId.get(p)!.name, standIn: null })
+      else if (!item.noStandIns) {
+        const v = standInVerdict(rules, bagSwapPart(byId.get(item.partId)!), bagSwapPart(byId.get(p)!), false)
+        if (v) standIns.push({ item, partId: p, partName: byId.get(p)!.name, standIn: { warning: v.warning } })
+      }
+    }
+  }
+  return [...own, ...standIns]
+}
+
+/** Why a bin does not serve this bag, in the packer's words. */
+async function wrongBin(db: Db, code: string, items: BagItemRow[], binPartIds: number[], itemId?: number) {
+  if (!binPartIds.length) return refuse(409, 'wrong-bin', `Bin ${code} holds nothing on the books: this bag needs nothing from it`)
+  const done = items.find(i => binPartIds.includes(i.partId) && i.qtyPacked >= i.qtyNeeded)
+  if (done) return refuse(409, 'line-done', `${done.designators} already has its ${done.qtyNeeded} × ${done.partName}: nothing more from bin ${code}`)
+  const parts = await db.select({ name: schema.parts.name }).from(schema.parts).where(inArray(schema.parts.id, binPartIds))
+  const what = [...new Set(parts.map(p => p.name))].join(', ')
+  if (itemId !== undefined) return refuse(409, 'wrong-bin', `Bin ${code} holds ${what}, which does not go on that line`)
+  return refuse(409, 'wrong-bin', `Wrong bin: ${code} holds ${what}, and nothing still open in this bag takes it`)
+}
+
+/** The oldest lot of the part in this bin that still has `qty` free after what unsealed bags hold. */
+async function chooseLot(db: Db, lots: (typeof schema.lots.$inferSelect)[], qty: number, binCode: string, partName: string) {
+  const pending = await pendingByLot(db, lots.map(l => l.id))
+  let best = 0
+  for (const lot of lots) {
+    const free = lot.onHand - (pending.get(lot.id) ?? 0)
+    if (free >= qty) return lot
+    best = Math.max(best, free)
+  }
+  throw refuse(409, 'bin-short', `Bin ${binCode} has only ${best} × ${partName} left on the books (counting parts already in unsealed bags): count the bin or use another`)
+}
+
+/** Takes back the bag's last pack that is not yet undone. */
+export async function undoLast(db: Db, bagId: number, packer: Packer) {
+  const E = schema.bagEvents
+  const I = schema.bagItems
+  await db.transaction(async (tx) => {
+    await claim(tx, bagId, packer.id)
+    const [ev] = await tx.select().from(E).where(and(eq(E.bagId, bagId), eq(E.kind, 'pack'), eq(E.undone, 0))).orderBy(desc(E.id)).limit(1).for('update')
+    if (!ev || !ev.bagItemId || !ev.qty) throw refuse(409, 'nothing-to-undo', 'Nothing to undo: no scan in this bag is left to take back')
+    const [a] = await tx.update(I).set({ qtyPacked: sql`${I.qtyPacked} - ${ev.qty}` }).where(and(eq(I.id, ev.bagItemId), sql`${I.qtyPacked} >= ${ev.qty}`))
+    const [b] = await tx.update(E).set({ undone: 1 }).where(and(eq(E.id, ev.id), eq(E.undone, 0)))
+    if (a.affectedRows !== 1 || b.affectedRows !== 1) throw refuse(409, 'nothing-to-undo', 'That scan was already taken back')
+    const [still] = await tx.select({ n: sql<number>`count(*)` }).from(E)
+      .where(and(eq(E.bagItemId, ev.bagItemId), eq(E.kind, 'pack'), eq(E.undone, 0), eq(E.partId, ev.partId!)))
+    if (!Number(still?.n)) await tx.update(I).set({ standInPartId: null, standInWarning: null }).where(and(eq(I.id, ev.bagItemId), eq(I.standInPartId, ev.partId!)))
+    await tx.insert(E).values({ bagId, bagItemId: ev.bagItemId, kind: 'undo', lotId: ev.lotId, binId: ev.binId, partId: ev.partId, qty: ev.qty, userId: packer.id, note: `took back scan #${ev.id}` })
+  })
+  return bagView(db, bagId)
+}
+
+/**
+ * Seals a fully packed bag in one transaction: the picks leave their lots (ledger 'pick', never below
+ * zero), the order's reservations are consumed, the bag is sealed and the seal recorded.
+ */
+export async function sealBag(db: Db, bagId: number, packer: Packer) {
+  const B = schema.bags
+  const E = schema.bagEvents
+  await db.transaction(async (tx) => {
+    const [res] = await tx.update(B).set({ state: 'sealed', sealedBy: packer.id, sealedAt: sql`now()`, claimedBy: null, claimedAt: null })
+      .where(and(eq(B.id, bagId), inArray(B.state, ['open', 'packing']), or(isNull(B.claimedBy), eq(B.claimedBy, packer.id), lapsed())))
+    if (res.affectedRows !== 1) await claim(tx, bagId, packer.id)
+    const [bag] = await tx.select().from(B).where(eq(B.id, bagId))
+    const [open] = await tx.select({ n: sql<number>`count(*)` }).from(schema.bagItems)
+      .where(and(eq(schema.bagItems.bagId, bagId), sql`${schema.bagItems.qtyPacked} < ${schema.bagItems.qtyNeeded}`))
+    if (Number(open?.n)) throw refuse(409, 'incomplete', `${open!.n} line${Number(open!.n) === 1 ? ' is' : 's are'} not fully packed yet: the bag cannot be sealed`)
+    const picks = await tx.select({ lotId: E.lotId, partId: schema.lots.partId, qty: sql<number>`cast(sum(${E.qty}) as signed)` }).from(E)
+      .innerJoin(schema.lots, eq(schema.lots.id, E.lotId))
+      .where(and(eq(E.bagId, bagId), eq(E.kind, 'pack'), eq(E.undone, 0))).groupBy(E.lotId, schema.lots.partId)
+      .orderBy(asc(schema.lots.partId), asc(E.lotId))
+    for (const p of picks) {
+      if (Number(p.qty) > 0) await moveStock(tx, { lotId: p.lotId!, qty: -Number(p.qty), kind: 'pick', userId: packer.id, orderId: bag!.orderId, bagId, reason: `Packed into bag ${bag!.code}` })
+    }
+    await tx.update(schema.reservations).set({ state: 'consumed' }).where(and(eq(schema.reservations.orderId, bag!.orderId), eq(schema.reservations.state, 'confirmed')))
+    await tx.insert(E).values({ bagId, kind: 'seal', userId: packer.id })
+  })
+}
+
+/** An organiser unseals a bag with a reason: its picks go back to their lots (ledger 'return') and the reservations hold again. */
+export async function unsealBag(db: Db, bagId: number, organiser: Packer, reason: string) {
+  const B = schema.bags
+  const L = schema.ledger
+  await db.transaction(async (tx) => {
+    const [res] = await tx.update(B).set({ state: 'packing', sealedBy: null, sealedAt: null, claimedBy: null, claimedAt: null })
+      .where(and(eq(B.id, bagId), eq(B.state, 'sealed')))
+    const [bag] = await tx.select().from(B).where(eq(B.id, bagId))
+    if (!bag) throw refuse(404, 'unknown', 'There is no such bag')
+    if (res.affectedRows !== 1) throw refuse(409, 'not-sealed', `Bag ${bag.code} is ${bag.state === 'collected' ? 'already collected' : 'not sealed'}: there is nothing to unseal`)
+    const net = await tx.select({ lotId: L.lotId, qty: sql<number>`cast(sum(${L.qty}) as signed)` }).from(L)
+      .where(and(eq(L.bagId, bagId), inArray(L.kind, ['pick', 'return']))).groupBy(L.lotId).orderBy(asc(L.lotId))
+    for (const n of net) {
+      if (Number(n.qty) < 0) await moveStock(tx, { lotId: n.lotId, qty: -Number(n.qty), kind: 'return', userId: organiser.id, orderId: bag.orderId, bagId, reason: `Bag ${bag.code} unsealed: ${reason}`.slice(0, 255) })
+    }
+    await tx.execute(sql`update reservations r join orders o on o.id = r.order_id set r.state = 'confirmed'
+      where r.order_id = ${bag.orderId} and r.state = 'consumed' and o.state = 'paid'`)
+    await tx.insert(schema.bagEvents).values({ bagId, kind: 'unseal', userId: organiser.id, note: reason.slice(0, 255) })
+    await tx.insert(schema.auditLog).values({ userId: organiser.id, action: 'bag.unseal', subjectType: 'bag', subjectId: String(bagId), detail: { code: bag.code, reason } })
+  })
+  return bagView(db, bagId)
+}
+
+/** A bag's history: every claim, scan, refusal, undo, seal and unseal with who and when. */
+export async function bagHistory(db: Db, bagId: number) {
+  const E = schema.bagEvents
+  return db.select({
+    id: E.id, kind: E.kind, qty: E.qty, undone: E.undone, note: E.note, at: E.createdAt,
+    who: schema.users.name, binCode: schema.bins.code, partName: schema.parts.name, designators: schema.bomLines.designators,
+  }).from(E)
+    .leftJoin(schema.users, eq(schema.users.id, E.userId))
+    .leftJoin(schema.bins, eq(schema.bins.id, E.binId))
+    .leftJoin(schema.parts, eq(schema.parts.id, E.partId))
+    .leftJoin(schema.bagItems, eq(schema.bagItems.id, E.bagItemId))
+    .leftJoin(schema.bomLines, eq(schema.bomLines.id, schema.bagItems.lineId))
+    .where(eq(E.bagId, bagId)).orderBy(desc(E.id)).limit(500)
+}
+
+/** Bags of a build day with their packing totals (the bags page and the progress board). */
+export async function bagsOfDay(db: Db, buildDayId: number) {
+  const headers = await loadBagHeaders(db, { buildDayId }, CLAIM_LAPSE_SECONDS)
+  const I = schema.bagItems
+  const sums = headers.length
+    ? await db.select({ bagId: I.bagId, needed: sql<number>`cast(sum(${I.qtyNeeded}) as signed)`, packed: sql<number>`cast(sum(${I.qtyPacked}) as signed)`, lines: sql<number>`count(*)` })
+      .from(I).where(inArray(I.bagId, headers.map(h => h.id))).groupBy(I.bagId)
+    : []
+  const byBag = new Map(sums.map(s => [s.bagId, s]))
+  return headers.map(h => ({ ...h, needed: Number(byBag.get(h.id)?.needed ?? 0), packed: Number(byBag.get(h.id)?.packed ?? 0), lines: Number(byBag.get(h.id)?.lines ?? 0) }))
+}
+
+/** Per build day: bags not started, in progress and sealed, with the bags being packed now. */
+export async function packingProgress(db: Db) {
+  const days = await db.select({ id: schema.buildDays.id, name: schema.buildDays.name, date: schema.buildDays.date }).from(schema.buildDays).orderBy(asc(schema.buildDays.date), asc(schema.buildDays.id))
+  const counts = await db.select({ buildDayId: schema.bags.buildDayId, state: schema.bags.state, n: sql<number>`count(*)` }).from(schema.bags).groupBy(schema.bags.buildDayId, schema.bags.state)
+  const paid = await db.select({ buildDayId: schema.orders.buildDayId, n: sql<number>`count(*)` }).from(schema.orders)
+    .leftJoin(schema.bags, eq(schema.bags.orderId, schema.orders.id))
+    .where(and(eq(schema.orders.state, 'paid'), isNull(schema.bags.id))).groupBy(schema.orders.buildDayId)
+  const out = []
+  for (const d of days) {
+    const of = (s: string) => Number(counts.find(c => c.buildDayId === d.id && c.state === s)?.n ?? 0)
+    const total = counts.filter(c => c.buildDayId === d.id).reduce((n, c) => n + Number(c.n), 0)
+    const busy = of('packing') ? (await bagsOfDay(db, d.id)).filter(b => b.state === 'packing') : []
+    out.push({
+      ...d,
+      notStarted: of('open'), inProgress: of('packing'), sealed: of('sealed') + of('collected'), collected: of('collected'), total,
+      paidWithoutBag: Number(paid.find(p => p.buildDayId === d.id)?.n ?? 0),
+      packing: busy.map(b => ({ code: b.code, seat: b.seat, builderName: b.builderName, kitName: b.kitName, packer: b.claim?.name ?? null, packed: b.packed, needed: b.needed })),
+    })
+  }
+  return { days: out, at: new Date().toISOString() }
+}
+
+// ---- label sheets chosen in the browser ----
+
+const mm = (max: number) => z.coerce.number().min(0, 'must be 0 mm or more').max(max, `must be at most ${max} mm`)
+
+export const labelLayoutQuery = z.object({
+  layout: z.string().max(40).default('a4-3x8'),
+  page: z.enum(['A4', 'Letter', 'custom']).optional(),
+  pageWidth: mm(1000).optional(),
+  pageHeight: mm(2000).optional(),
+  rows: z.coerce.number().int('must be a whole number').min(1).max(40).optional(),
+  cols: z.coerce.number().int('must be a whole number').min(1).max(20).optional(),
+  marginTop: mm(200).optional(),
+  marginLeft: mm(200).optional(),
+  gapX: mm(100).optional(),
+  gapY: mm(100).optional(),
+  labelWidth: mm(500).optional(),
+  labelHeight: mm(500).optional(),
+  startAt: z.coerce.number().int().min(0).max(799).default(0),
+})
+
+/** The sheet layout a query asks for: a stock layout by id, or 'custom' built from the query's sizes. */
+export function layoutFromQuery(q: z.output<typeof labelLayoutQuery>): SheetLayout {
+  if (q.layout !== 'custom') {
+    const found = SHEET_LAYOUTS.find(l => l.id === q.layout)
+    if (!found) throw createError({ statusCode: 400, statusMessage: 'Invalid input', message: `Unknown label layout "${q.layout}": choose one from the list or "custom"`, data: { fields: { layout: 'unknown layout' } } })
+    return found
+  }
+  const page = q.page === 'custom' || !q.page
+    ? { widthMm: q.pageWidth ?? 0, heightMm: q.pageHeight ?? 0 }
+    : q.page
+  const layout: SheetLayout = {
+    id: 'custom', name: 'Custom', page, rows: q.rows ?? 1, cols: q.cols ?? 1,
+    marginTopMm: q.marginTop ?? 0, marginLeftMm: q.marginLeft ?? 0, gapXMm: q.gapX ?? 0, gapYMm: q.gapY ?? 0,
+    ...(q.labelWidth ? { labelWidthMm: q.labelWidth } : {}), ...(q.labelHeight ? { labelHeightMm: q.labelHeight } : {}),
+  }
+  const problems = validateLayout(layout)
+  if (problems.length) throw createError({ statusCode: 400, statusMessage: 'Invalid input', message: `This label layout cannot be printed: ${problems.join('; ')}` })
+  return layout
+}
+
+/** Sends a PDF for the browser's own viewer (an iframe on our pages) or as a download. */
+export function sendPdf(event: H3Event, pdf: Buffer, filename: string, download: boolean) {
+  setResponseHeaders(event, {
+    'Content-Type': 'application/pdf',
+    'Content-Disposition': `${download ? 'attachment' : 'inline'}; filename="${filename}"`,
+    'Content-Security-Policy': "default-src 'none'; object-src 'self'; frame-ancestors 'self'",
+  })
+  return pdf
+}
+
+export const BagCodeParams = z.object({
+  code: z.string().transform(s => s.trim().toUpperCase()).refine(isBagCode, 'This is not a bag code (B and 5 characters, e.g. B7K3QX)'),
+})
+
+/** The id of the bag with this code; 404 when there is none. */
+export async function bagIdByCode(db: Db, code: string) {
+  const [bag] = await db.select({ id: schema.bags.id }).from(schema.bags).where(eq(schema.bags.code, code))
+  if (!bag) throw createError({ statusCode: 404, statusMessage: 'Not found', message: `There is no bag ${code}` })
+  return bag.id
+}
+
+/** A small page for a label link that does not verify (opened from a phone's own camera app). */
+export function labelRefused(event: H3Event, reason: string) {
+  setResponseStatus(event, 400)
+  setResponseHeader(event, 'Content-Type', 'text/html; charset=utf-8')
+  const text = reason.replace(/[&<>"]/g, c => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;' })[c]!)
+  return `<!doctype html><html lang="en"><meta name="viewport" content="width=device-width, initial-scale=1"><title>Label refused · Kitwright</title>
+<body style="font-family: system-ui, sans-serif; padding: 1.5rem; background: #f7f5f0; color: #0f1e28"><h1 style="color: #921f18">This label was refused</h1>
+<p>${text[0]!.toUpperCase()}${text.slice(1)}.</p><p>Scan it again, or type the code printed under the QR code at the <a href="/pack">packing station</a>.</p></body></html>`
+}
