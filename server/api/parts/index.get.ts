@@ -1,0 +1,5 @@
+export default defineEventHandler(async (event) => {
+  await requireRole(event, 'organiser', 'packer')
+  const query = parseQuery(event, partSearchQuery)
+  return searchParts(useDb(), query)
+})
