@@ -184,7 +184,6 @@ describe('preview', () => {
 describe('commit: all rows or none', () => {
   const revisions = () => count('select count(*) n from revisions where kit_id = ?', [kitId])
   const parts = () => count('select count(*) n from parts')
-  let madeFromRow3 = 0
 
   it('refuses while a row has errors, and writes nothing', async () => {
     const t = await table()
@@ -218,7 +217,7 @@ describe('commit: all rows or none', () => {
     const p0 = await parts()
     const res = await org.post(`/api/kits/${kitId}/import/commit`, {
       ...t, fileName: 'heron.csv', skip: [10], edits: { 7: { qty: '3' } },
-      decisions: { 3: { create: true }, 5: { use: made.r383b }, 9: { keepText: true } },
+      decisions: { 3: { keepText: true }, 5: { use: made.r383b }, 9: { keepText: true } },
     })
     expect(res.status).toBe(201)
     expect(res.body).toMatchObject({ label: 'A', lines: 7 })
@@ -233,21 +232,22 @@ describe('commit: all rows or none', () => {
     expect(lines['C1-C3'].qty).toBe(3)
     expect(lines.C4).toMatchObject({ partId: null, valueText: '22' })
     expect(lines.Q1).toMatchObject({ partId: null, valueText: `HX${tag}` })
-    // Row 3 asked for a new part even though 4.7 kΩ may exist; R9 is new anyway: two new parts.
-    expect(res.body.newParts).toBe(2)
-    expect(await parts()).toBe(p0 + 2)
-    expect(lines.R9.part).toMatchObject({ kind: 'resistor', name: 'Resistor 71.5 kΩ', value: 71500, unit: 'Ω' })
-    expect(lines['R1-R3, R5'].part).toMatchObject({ kind: 'resistor', value: 4700, powerW: 0.25 })
-    madeFromRow3 = lines['R1-R3, R5'].partId
-    expect(lines['R1-R3, R5'].value).toEqual({ text: '4.7 kΩ', letterCode: '4k7', marking: 'yellow violet red gold' })
+    expect(lines['R1-R3, R5']).toMatchObject({ partId: null, valueText: '4K7 1/4W' })
+    // R9 had no match: one part made from its reading.
+    expect(res.body.newParts).toBe(1)
+    expect(await parts()).toBe(p0 + 1)
+    expect(lines.R9.part).toMatchObject({ kind: 'resistor', name: 'Resistor 71.5 kΩ', value: 71500, unit: 'Ω', mounting: 'tht' })
+    // IEC 60062: 71.5 kΩ takes three digits, so five bands (violet brown green red), gold for the default 5 %.
+    expect(lines.R9.value).toEqual({ text: '71.5 kΩ', letterCode: '71k5', marking: 'violet brown green red gold' })
   })
 
   it('a second import becomes revision B with A as its parent', async () => {
     const t = await table()
-    // The 4.7 kΩ part made by the first import now shares its value with others: this row needs a choice.
-    const res = await org.post(`/api/kits/${kitId}/import/commit`, { ...t, skip: [10], decisions: { 3: { use: madeFromRow3 }, 5: { use: made.r383a } } })
+    const res = await org.post(`/api/kits/${kitId}/import/commit`, { ...t, skip: [10], decisions: { 3: { keepText: true }, 5: { create: true } } })
     expect(res.status).toBe(201)
     expect(res.body.label).toBe('B')
+    // "Make a new part" on a needs-a-choice row, and Q1 (kept as text in A) made from its reading.
+    expect(res.body.newParts).toBe(2)
     const d = (await org.get(`/api/revisions/${res.body.id}`)).body
     const a = d.siblings.find((s: { label: string }) => s.label === 'A')
     expect(d.revision.parentId).toBe(a.id)
