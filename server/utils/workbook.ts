@@ -137,7 +137,7 @@ function writeHeader(ws: ExcelJS.Worksheet, input: BomWorkbookInput, sheetTitle:
   ws.addRow([])
 }
 
-function writeTable(ws: ExcelJS.Worksheet, cols: Column[], lines: WorkbookLine[]): number {
+function writeTable(ws: ExcelJS.Worksheet, cols: Column[], lines: WorkbookLine[], widths: number[]): number {
   const head = ws.addRow(cols.map(c => c.header))
   head.font = { bold: true, color: { argb: INK } }
   head.eachCell((cell) => {
@@ -147,8 +147,12 @@ function writeTable(ws: ExcelJS.Worksheet, cols: Column[], lines: WorkbookLine[]
   const warningAt = cols.findIndex(c => c.key === 'warning') + 1
   for (const l of lines) {
     const row = rowOf(l)
-    const r = ws.addRow(cols.map(c => (typeof row[c.key] === 'number' ? row[c.key] : text(String(row[c.key])))))
-    r.alignment = { vertical: 'top', wrapText: true }
+    const values = cols.map(c => (typeof row[c.key] === 'number' ? row[c.key] : text(String(row[c.key]))))
+    const r = ws.addRow(values)
+    // Styling every cell is what makes big workbooks slow: wrap only the cells too long for their column.
+    values.forEach((v, i) => {
+      if (typeof v === 'string' && v.length > widths[i]!) r.getCell(i + 1).alignment = { vertical: 'top', wrapText: true }
+    })
     if (warningAt > 0 && l.warning) {
       const cell = r.getCell(warningAt)
       cell.fill = WARN_FILL
@@ -158,19 +162,19 @@ function writeTable(ws: ExcelJS.Worksheet, cols: Column[], lines: WorkbookLine[]
   return head.number
 }
 
-function sizeColumns(ws: ExcelJS.Worksheet, cols: Column[], lines: WorkbookLine[]): void {
-  cols.forEach((c, i) => {
-    const longest = Math.max(c.header.length, ...lines.map(l => String(rowOf(l)[c.key]).length))
-    ws.getColumn(i + 1).width = Math.min(c.max, Math.max(c.width, longest + 2))
-  })
+/** Column widths in characters: at least the column's default, wide enough for its longest cell, at most its cap. */
+function widthsFor(cols: Column[], lines: WorkbookLine[]): number[] {
+  const rows = lines.map(rowOf)
+  return cols.map(c => Math.min(c.max, Math.max(c.width, c.header.length + 2, ...rows.map(r => String(r[c.key]).length + 2))))
 }
 
 function addSheet(wb: ExcelJS.Workbook, name: string, input: BomWorkbookInput, lines: WorkbookLine[], withStage: boolean): void {
   const cols = columnsFor(input, withStage)
   const ws = wb.addWorksheet(name)
   writeHeader(ws, input, name)
-  const headRow = writeTable(ws, cols, lines)
-  sizeColumns(ws, cols, lines)
+  const widths = widthsFor(cols, lines)
+  const headRow = writeTable(ws, cols, lines, widths)
+  widths.forEach((w, i) => { ws.getColumn(i + 1).width = w })
   ws.views = [{ state: 'frozen', xSplit: 0, ySplit: headRow, topLeftCell: `A${headRow + 1}`, activeCell: `A${headRow + 1}` }]
   ws.autoFilter = { from: { row: headRow, column: 1 }, to: { row: headRow, column: cols.length } }
   ws.pageSetup = {
@@ -192,7 +196,8 @@ export async function buildBomWorkbook(input: BomWorkbookInput): Promise<Buffer>
   wb.created = new Date()
   const used = new Set<string>()
   sheetsOf(input).forEach((s, i) => addSheet(wb, sheetName(s.name, i, used), input, s.lines, s.withStage))
-  return Buffer.from(await wb.xlsx.writeBuffer())
+  // Fast deflate: the sheets are small and repetitive, and a BOM workbook is made on demand.
+  return Buffer.from(await wb.xlsx.writeBuffer({ zip: { compression: 'DEFLATE', compressionOptions: { level: 1 } } } as ExcelJS.XlsxWriteOptions))
 }
 
 /** The whole-BOM sheet as CSV (RFC 4180, text cells neutralised): header lines, a blank line, then the table. */
