@@ -133,7 +133,6 @@ export const ROUTES: RouteEntry[] = [
   { file: 'bins/scan.post.ts', method: 'POST', path: '/api/bins/scan', roles: ['organiser'] },
   { file: 'lots/index.get.ts', method: 'GET', path: '/api/lots', roles: ['organiser'] },
   { file: 'lots/index.post.ts', method: 'POST', path: '/api/lots', roles: ['organiser'] },
-  { file: 'lots/part-choices.get.ts', method: 'GET', path: '/api/lots/part-choices', roles: ['organiser'] },
   { file: 'lots/[id]/move.post.ts', method: 'POST', path: '/api/lots/999999/move', roles: ['organiser'] },
   { file: 'ledger/index.get.ts', method: 'GET', path: '/api/ledger', roles: ['organiser'] },
   { file: 'ledger/index.post.ts', method: 'POST', path: '/api/ledger', roles: ['organiser'] },

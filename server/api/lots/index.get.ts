@@ -3,7 +3,7 @@ import { z } from 'zod'
 const id = z.coerce.number().int().positive().optional()
 const day = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'Use a date like 2027-02-13').optional().or(z.literal('').transform(() => undefined))
 const query = z.object({
-  partId: id, binId: id, from: day, to: day,
+  partId: id, binId: id, lotId: id, from: day, to: day,
   q: z.string().trim().max(80).optional(),
   stock: z.enum(['in', 'all']).default('in'),
 })
@@ -21,6 +21,7 @@ export default defineEventHandler(async (event) => {
     .where(and(
       f.partId ? eq(lots.partId, f.partId) : undefined,
       f.binId ? eq(lots.binId, f.binId) : undefined,
+      f.lotId ? eq(lots.id, f.lotId) : undefined,
       f.from ? gte(lots.receivedOn, f.from) : undefined,
       f.to ? lte(lots.receivedOn, f.to) : undefined,
       f.q ? or(like(parts.name, `%${f.q}%`), like(lots.supplier, `%${f.q}%`), like(lots.supplierRef, `%${f.q}%`)) : undefined,
