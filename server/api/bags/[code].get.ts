@@ -5,5 +5,5 @@ export default defineEventHandler(async (event) => {
   const db = useDb()
   const bagId = await bagIdByCode(db, code)
   const [view, history, picks] = await Promise.all([bagView(db, bagId), bagHistory(db, bagId), planPicks(db, [bagId])])
-  return { ...view, history, picks: picks.rows }
+  return { ...view, history, picks: picks.rows, token: signCode('bag', code, useRuntimeConfig(event).labelSecret) }
 })

@@ -7,7 +7,7 @@ export default defineEventHandler(async (event) => {
   const read = readScan(`/b/${token}`, useRuntimeConfig(event).labelSecret)
   if ('error' in read) return labelRefused(event, read.error)
   const { user } = await getUserSession(event)
-  if (!user) return sendRedirect(event, `/login?next=${encodeURIComponent(`/b/${token}`)}`, 302)
+  if (!user) return sendRedirect(event, `/login?next=${encodeURIComponent(`/pack?scan=${token}`)}`, 302)
   if (user.roles.includes('packer')) return sendRedirect(event, `/pack?scan=${encodeURIComponent(token)}`, 302)
   if (user.roles.includes('organiser')) return sendRedirect(event, `/bags/${read.code}`, 302)
   return sendRedirect(event, '/my', 302)

@@ -4,6 +4,6 @@ export default defineEventHandler(async (event) => {
   const read = readScan(`/n/${token}`, useRuntimeConfig(event).labelSecret)
   if ('error' in read) return labelRefused(event, read.error)
   const { user } = await getUserSession(event)
-  if (!user) return sendRedirect(event, `/login?next=${encodeURIComponent(`/n/${token}`)}`, 302)
+  if (!user) return sendRedirect(event, `/login?next=${encodeURIComponent(`/pack?scan=${token}`)}`, 302)
   return sendRedirect(event, `/pack?scan=${encodeURIComponent(token)}`, 302)
 })
