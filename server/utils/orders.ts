@@ -305,7 +305,7 @@ async function onCompleted(tx: Tx, day: DayRow, order: OrderRow, session: Stripe
     .where(eq(O.id, order.id))
   await tx.update(tables.reservations).set({ state: 'confirmed' })
     .where(and(eq(tables.reservations.orderId, order.id), eq(tables.reservations.state, 'held')))
-  await tx.update(tables.waitlist).set({ state: 'taken', holdTokenHash: null })
+  await tx.update(tables.waitlist).set({ state: 'taken' })
     .where(and(eq(tables.waitlist.orderId, order.id), eq(tables.waitlist.state, 'offered')))
   await tx.update(tables.waitlist).set({ state: 'left' })
     .where(and(eq(tables.waitlist.buildDayId, day.id), eq(tables.waitlist.userId, order.userId), eq(tables.waitlist.state, 'waiting')))

@@ -140,7 +140,7 @@ export async function releaseOrder(tx: Tx, orderId: number, from: OrderState[], 
   if (res.affectedRows !== 1) return false
   await tx.update(schema.reservations).set({ state: 'released' })
     .where(and(eq(schema.reservations.orderId, orderId), inArray(schema.reservations.state, ['held', 'confirmed'])))
-  await tx.update(schema.waitlist).set({ state: 'lapsed', holdTokenHash: null })
+  await tx.update(schema.waitlist).set({ state: 'lapsed' })
     .where(and(eq(schema.waitlist.orderId, orderId), eq(schema.waitlist.state, 'offered')))
   return true
 }

@@ -144,7 +144,7 @@ export async function acceptOffer(user: { id: number, email: string }, token: st
 export async function declineOffer(userId: number, token: string) {
   const entry = await offerFor(userId, token)
   const W = tables.waitlist
-  const [res] = await useDb().update(W).set({ state: 'left', holdTokenHash: null }).where(and(eq(W.id, entry.id), eq(W.state, 'offered')))
+  const [res] = await useDb().update(W).set({ state: 'left' }).where(and(eq(W.id, entry.id), eq(W.state, 'offered')))
   if (res.affectedRows !== 1) throw createError({ statusCode: 410, statusMessage: 'Offer lapsed', message: 'This offer has already lapsed or been used' })
   if (entry.orderId) await releasePending(entry.orderId, 'cancelled', 'Declined the waiting-list offer')
   return { declined: true }
@@ -156,7 +156,7 @@ export async function leaveWaitlist(userId: number, id: number) {
   const [entry] = await useDb().select().from(W).where(and(eq(W.id, id), eq(W.userId, userId)))
   if (!entry) throw createError({ statusCode: 404, statusMessage: 'Not found', message: 'There is no such waiting-list entry' })
   if (entry.state === 'offered') {
-    await useDb().update(W).set({ state: 'left', holdTokenHash: null }).where(and(eq(W.id, id), eq(W.state, 'offered')))
+    await useDb().update(W).set({ state: 'left' }).where(and(eq(W.id, id), eq(W.state, 'offered')))
     if (entry.orderId) await releasePending(entry.orderId, 'cancelled', 'Left the waiting list')
   }
   else if (entry.state === 'waiting') {
