@@ -1,4 +1,4 @@
-import { and, asc, eq, inArray, isNull, sql } from 'drizzle-orm'
+import { and, asc, eq, inArray, isNull, sql, type SQL } from 'drizzle-orm'
 import { alias } from 'drizzle-orm/mysql-core'
 import type { MySql2Database } from 'drizzle-orm/mysql2'
 import { createError } from 'h3'
@@ -250,15 +250,19 @@ export function standInVerdict(rules: SwapRules, original: SwapPart, candidate: 
   return standInsFor(original.id, [original, candidate], rules.groups, rules.settings, { noStandIns }).find(s => s.partId === candidate.id) ?? null
 }
 
-/** Quantities already packed into unsealed bags, per lot: still on the lot's books until the bag is sealed. */
-export async function pendingByLot(db: AnyDb, lotIds: number[]) {
-  if (!lotIds.length) return new Map<number, number>()
-  const E = schema.bagEvents
-  const rows = await db.select({ lotId: E.lotId, qty: sql<number>`cast(sum(${E.qty}) as signed)` }).from(E)
-    .innerJoin(schema.bags, eq(schema.bags.id, E.bagId))
-    .where(and(inArray(E.lotId, lotIds), eq(E.kind, 'pack'), eq(E.undone, 0), inArray(schema.bags.state, ['open', 'packing'])))
-    .groupBy(E.lotId)
-  return new Map(rows.map(r => [r.lotId!, Number(r.qty)]))
+function lotsOfParts(db: AnyDb, where: SQL) {
+  return db.select({ lot: schema.lots, binCode: schema.bins.code, place: schema.bins.place, walkOrder: schema.bins.walkOrder })
+    .from(schema.lots).innerJoin(schema.bins, eq(schema.bins.id, schema.lots.binId))
+    .where(and(where, sql`${schema.lots.onHand} > 0`))
+    .orderBy(asc(schema.lots.receivedOn), asc(schema.lots.id))
+}
+
+/** Pending packs per lot for the lots `l` matching a condition. */
+export async function pendingWhere(db: AnyDb, lotCondition: SQL) {
+  const [rows] = await db.execute(sql`select e.lot_id as lotId, cast(sum(e.qty) as signed) as qty from bag_events e
+    join bags b on b.id = e.bag_id join lots l on l.id = e.lot_id
+    where ${lotCondition} and e.kind = 'pack' and e.undone = 0 and b.state in ('open', 'packing') group by e.lot_id`)
+  return new Map((rows as unknown as { lotId: number, qty: number }[]).map(r => [Number(r.lotId), Number(r.qty)]))
 }
 
 /**
@@ -267,27 +271,31 @@ export async function pendingByLot(db: AnyDb, lotIds: number[]) {
  * lot first; lots are shared out across the bags in order. Rows come in bin walk order.
  */
 export async function planPicks(db: AnyDb, bagIds: number[], opts: { remainingOnly?: boolean, items?: BagItemRow[] } = {}) {
-  const [headers, items] = await Promise.all([
-    db.select({ id: schema.bags.id, orderId: schema.bags.orderId }).from(schema.bags).where(inArray(schema.bags.id, bagIds.length ? bagIds : [0])),
+  const ids = bagIds.length ? bagIds : [0]
+  // One round of queries: the parts in play are the bags' own parts and the parts their orders reserved.
+  const inPlay = sql`(select i.part_id from bag_items i where i.bag_id in (${sql.join(ids.map(id => sql`${id}`), sql`, `)})
+    union select r.part_id from reservations r join bags b on b.order_id = r.order_id where b.id in (${sql.join(ids.map(id => sql`${id}`), sql`, `)}))`
+  const [headers, items, reservations, firstLots, firstParts, rules, firstPending] = await Promise.all([
+    db.select({ id: schema.bags.id, orderId: schema.bags.orderId }).from(schema.bags).where(inArray(schema.bags.id, ids)),
     opts.items ?? loadBagItems(db, bagIds),
+    db.select({ r: schema.reservations }).from(schema.reservations).innerJoin(schema.bags, eq(schema.bags.orderId, schema.reservations.orderId))
+      .where(and(inArray(schema.bags.id, ids), inArray(schema.reservations.state, ['held', 'confirmed', 'consumed']))).then(rows => rows.map(x => x.r)),
+    lotsOfParts(db, sql`${schema.lots.partId} in ${inPlay}`),
+    db.select().from(schema.parts).where(sql`${schema.parts.id} in ${inPlay}`),
+    loadSwapRules(db),
+    pendingWhere(db, sql`l.part_id in ${inPlay}`),
   ])
   const orderOf = new Map(headers.map(h => [h.id, h.orderId]))
-  const reservations = headers.length
-    ? await db.select().from(schema.reservations).where(and(inArray(schema.reservations.orderId, headers.map(h => h.orderId)), inArray(schema.reservations.state, ['held', 'confirmed', 'consumed'])))
-    : []
   const demand = await partDemand(db, items, orderOf, reservations, opts.remainingOnly !== false)
-  const partIds = [...new Set(demand.map(d => d.partId))]
-  const [lots, partRows, rules] = await Promise.all([
-    partIds.length
-      ? db.select({ lot: schema.lots, binCode: schema.bins.code, place: schema.bins.place, walkOrder: schema.bins.walkOrder })
-        .from(schema.lots).innerJoin(schema.bins, eq(schema.bins.id, schema.lots.binId))
-        .where(and(inArray(schema.lots.partId, partIds), sql`${schema.lots.onHand} > 0`))
-        .orderBy(asc(schema.lots.receivedOn), asc(schema.lots.id))
-      : Promise.resolve([]),
-    partIds.length ? db.select().from(schema.parts).where(inArray(schema.parts.id, [...new Set([...partIds, ...items.map(i => i.partId)])])) : Promise.resolve([]),
-    loadSwapRules(db),
-  ])
-  const pending = await pendingByLot(db, lots.map(l => l.lot.id))
+  let [lots, partRows, pending] = [firstLots, firstParts, firstPending]
+  const extra = [...new Set(demand.map(d => d.partId))].filter(id => !partRows.some(p => p.id === id))
+  if (extra.length) {
+    // Only when reconciliation chose a stand-in nobody reserved.
+    const [l2, p2, e2] = await Promise.all([lotsOfParts(db, inArray(schema.lots.partId, extra)), db.select().from(schema.parts).where(inArray(schema.parts.id, extra)), pendingWhere(db, sql`l.part_id in (${sql.join(extra.map(id => sql`${id}`), sql`, `)})`)])
+    lots = [...lots, ...l2]
+    partRows = [...partRows, ...p2]
+    pending = new Map([...pending, ...e2])
+  }
   const free = new Map(lots.map(l => [l.lot.id, l.lot.onHand - (pending.get(l.lot.id) ?? 0)]))
   const partById = new Map(partRows.map(p => [p.id, p]))
   const rows: PickRow[] = []

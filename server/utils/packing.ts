@@ -2,7 +2,7 @@ import { and, asc, desc, eq, inArray, isNull, or, sql } from 'drizzle-orm'
 import { createError, setResponseHeader, setResponseHeaders, setResponseStatus, type H3Event } from 'h3'
 import { z } from 'zod'
 import * as schema from '../db/schema'
-import { bagSwapPart, bagTotals, COUNTED_SINGLY, loadBagHeaders, loadBagItems, pendingByLot, planPicks, pouchesOf, loadSwapRules, standInVerdict, type BagItemRow } from './bags'
+import { bagSwapPart, bagTotals, COUNTED_SINGLY, loadBagHeaders, loadBagItems, loadSwapRules, pendingWhere, planPicks, pouchesOf, standInVerdict, type BagItemRow } from './bags'
 import { isBagCode, looksLikeBareCode, readScan } from './codes'
 import { SHEET_LAYOUTS, validateLayout, type SheetLayout } from './labels'
 import { moveStock } from './stock'
@@ -26,18 +26,15 @@ export type BagView = Awaited<ReturnType<typeof bagView>>
 
 /** The bag as the station shows it: header, pouches with lines and suggested bins, totals, the scan undo would take back. */
 export async function bagView(db: Db, bagId: number) {
-  const [[bag], items, lastPack] = await Promise.all([
+  const [[bag], plan, lastPack] = await Promise.all([
     loadBagHeaders(db, { ids: [bagId] }, CLAIM_LAPSE_SECONDS),
-    loadBagItems(db, [bagId]),
+    planPicks(db, [bagId]),
     lastPackEvent(db, bagId),
   ])
   if (!bag) throw refuse(404, 'unknown', 'There is no such bag')
   const bins = new Map<number, string[]>()
-  if (bag.state === 'open' || bag.state === 'packing') {
-    const plan = await planPicks(db, [bagId], { items })
-    for (const r of plan.rows) if (r.binCode && !bins.get(r.itemId)?.includes(r.binCode)) bins.set(r.itemId, [...(bins.get(r.itemId) ?? []), r.binCode])
-  }
-  return { bag, pouches: pouchesOf(items, bins), totals: bagTotals(items), lastPack, claimLapseSeconds: CLAIM_LAPSE_SECONDS }
+  for (const r of plan.rows) if (r.binCode && !bins.get(r.itemId)?.includes(r.binCode)) bins.set(r.itemId, [...(bins.get(r.itemId) ?? []), r.binCode])
+  return { bag, pouches: pouchesOf(plan.items, bins), totals: bagTotals(plan.items), lastPack, claimLapseSeconds: CLAIM_LAPSE_SECONDS }
 }
 
 async function lastPackEvent(db: Db, bagId: number) {
@@ -147,16 +144,22 @@ interface Candidate { item: BagItemRow, partId: number, partName: string, standI
 
 async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
   if (!input.bagId) throw refuse(409, 'no-bag', `That is bin ${code}: scan a bag's label first`)
-  const [[h], [bin], items] = await Promise.all([
+  const inBin = sql`(select l2.part_id from lots l2 join bins b2 on b2.id = l2.bin_id where b2.code = ${code})`
+  const [[h], binLots, items, parts, pending] = await Promise.all([
     loadBagHeaders(db, { ids: [input.bagId] }, CLAIM_LAPSE_SECONDS),
-    db.select().from(schema.bins).where(eq(schema.bins.code, code)),
+    db.select({ bin: schema.bins, lot: schema.lots }).from(schema.bins).leftJoin(schema.lots, eq(schema.lots.binId, schema.bins.id))
+      .where(eq(schema.bins.code, code)).orderBy(asc(schema.lots.receivedOn), asc(schema.lots.id)),
     loadBagItems(db, [input.bagId]),
+    db.select().from(schema.parts).where(or(sql`${schema.parts.id} in ${inBin}`, sql`${schema.parts.id} in (select i2.part_id from bag_items i2 where i2.bag_id = ${input.bagId})`)),
+    pendingWhere(db, sql`l.bin_id = (select b3.id from bins b3 where b3.code = ${code})`),
   ])
   checkBag(h, `#${input.bagId}`, input.buildDayId, packer.id)
+  const bin = binLots[0]?.bin
   if (!bin) throw refuse(404, 'unknown', `Bin ${code} is not in Kitwright: check its label`)
-  const lots = await db.select().from(schema.lots).where(eq(schema.lots.binId, bin.id)).orderBy(asc(schema.lots.receivedOn), asc(schema.lots.id))
-  const candidates = await binCandidates(db, items, lots.map(l => l.partId), input.itemId)
-  if (!candidates.length) throw await wrongBin(db, code, items, lots.map(l => l.partId), input.itemId)
+  const lots = binLots.flatMap(r => (r.lot ? [r.lot] : []))
+  const partById = new Map(parts.map(p => [p.id, p]))
+  const candidates = await binCandidates(db, items, lots.map(l => l.partId), partById, input.itemId)
+  if (!candidates.length) throw wrongBin(code, items, lots.map(l => l.partId), partById, input.itemId)
   const pick = candidates[0]!
   const remaining = pick.item.qtyNeeded - pick.item.qtyPacked
   const prompt = { item: pick.item, binCode: code, partId: pick.partId, partName: pick.partName, standIn: pick.standIn, remaining }
@@ -168,7 +171,7 @@ async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
   if (qty > remaining)
     throw refuse(409, 'over-count', `${pick.item.designators} needs ${remaining} more; ${qty} is too many. Put back ${qty - remaining}.`, { itemId: pick.item.itemId, remaining })
 
-  const lot = await chooseLot(db, lots.filter(l => l.partId === pick.partId), qty, code, pick.partName)
+  const lot = chooseLot(lots.filter(l => l.partId === pick.partId), pending, qty, code, pick.partName)
   await db.transaction(async (tx) => {
     await claim(tx, h.id, packer.id)
     const I = schema.bagItems
@@ -203,22 +206,22 @@ async function packed(db: Db, bagId: number, packer: Packer, what: Record<string
   return { outcome: 'packed' as const, packed: what, bag, sealed: bag.bag.state === 'sealed', sealError }
 }
 
+type PartRow = typeof schema.parts.$inferSelect
+
 /** Open lines this bin's parts serve: own part first, then allowed stand-ins, in pouch order. */
-async function binCandidates(db: Db, items: BagItemRow[], binPartIds: number[], itemId?: number): Promise<Candidate[]> {
+async function binCandidates(db: Db, items: BagItemRow[], binPartIds: number[], partById: Map<number, PartRow>, itemId?: number): Promise<Candidate[]> {
   const open = items.filter(i => i.qtyPacked < i.qtyNeeded && (itemId === undefined || i.itemId === itemId))
-  const partIds = [...new Set(binPartIds)]
+  const partIds = [...new Set(binPartIds)].filter(p => partById.has(p))
   if (!open.length || !partIds.length) return []
-  const parts = await db.select().from(schema.parts).where(inArray(schema.parts.id, [...new Set([...partIds, ...open.map(i => i.partId)])]))
-  const byId = new Map(parts.map(p => [p.id, p]))
   const own: Candidate[] = []
   const standIns: Candidate[] = []
   const rules = await loadSwapRules(db)
   for (const p of partIds) {
     for (const item of open) {
-      if (item.partId === p) own.push({ item, partId: p, partName: byId.get(p)!.name, standIn: null })
-      else if (!item.noStandIns) {
-        const v = standInVerdict(rules, bagSwapPart(byId.get(item.partId)!), bagSwapPart(byId.get(p)!), false)
-        if (v) standIns.push({ item, partId: p, partName: byId.get(p)!.name, standIn: { warning: v.warning } })
+      if (item.partId === p) own.push({ item, partId: p, partName: partById.get(p)!.name, standIn: null })
+      else if (!item.noStandIns && partById.has(item.partId)) {
+        const v = standInVerdict(rules, bagSwapPart(partById.get(item.partId)!), bagSwapPart(partById.get(p)!), false)
+        if (v) standIns.push({ item, partId: p, partName: partById.get(p)!.name, standIn: { warning: v.warning } })
       }
     }
   }
@@ -226,26 +229,24 @@ async function binCandidates(db: Db, items: BagItemRow[], binPartIds: number[], 
 }
 
 /** Why a bin does not serve this bag, in the packer's words. */
-async function wrongBin(db: Db, code: string, items: BagItemRow[], binPartIds: number[], itemId?: number) {
+function wrongBin(code: string, items: BagItemRow[], binPartIds: number[], partById: Map<number, PartRow>, itemId?: number) {
   if (!binPartIds.length) return refuse(409, 'wrong-bin', `Bin ${code} holds nothing on the books: this bag needs nothing from it`)
-  const done = items.find(i => binPartIds.includes(i.partId) && i.qtyPacked >= i.qtyNeeded)
+  const done = items.find(i => binPartIds.includes(i.partId) && i.qtyPacked >= i.qtyNeeded && (itemId === undefined || i.itemId === itemId))
   if (done) return refuse(409, 'line-done', `${done.designators} already has its ${done.qtyNeeded} × ${done.partName}: nothing more from bin ${code}`)
-  const parts = await db.select({ name: schema.parts.name }).from(schema.parts).where(inArray(schema.parts.id, binPartIds))
-  const what = [...new Set(parts.map(p => p.name))].join(', ')
+  const what = [...new Set(binPartIds.map(id => partById.get(id)?.name ?? `part ${id}`))].join(', ')
   if (itemId !== undefined) return refuse(409, 'wrong-bin', `Bin ${code} holds ${what}, which does not go on that line`)
   return refuse(409, 'wrong-bin', `Wrong bin: ${code} holds ${what}, and nothing still open in this bag takes it`)
 }
 
 /** The oldest lot of the part in this bin that still has `qty` free after what unsealed bags hold. */
-async function chooseLot(db: Db, lots: (typeof schema.lots.$inferSelect)[], qty: number, binCode: string, partName: string) {
-  const pending = await pendingByLot(db, lots.map(l => l.id))
+function chooseLot(lots: (typeof schema.lots.$inferSelect)[], pending: Map<number, number>, qty: number, binCode: string, partName: string) {
   let best = 0
   for (const lot of lots) {
     const free = lot.onHand - (pending.get(lot.id) ?? 0)
     if (free >= qty) return lot
     best = Math.max(best, free)
   }
-  throw refuse(409, 'bin-short', `Bin ${binCode} has only ${best} × ${partName} left on the books (counting parts already in unsealed bags): count the bin or use another`)
+  throw refuse(409, 'bin-short', `Bin ${binCode} has only ${Math.max(0, best)} × ${partName} left on the books (counting parts already in unsealed bags): count the bin or use another`)
 }
 
 /** Takes back the bag's last pack that is not yet undone. */
