@@ -164,13 +164,16 @@ const KIND_WORD: Record<string, string> = {
   ic: 'IC', connector: 'Connector', hardware: 'Hardware', board: 'Board', other: 'Part',
 }
 const RATING_UNIT = { powerW: 'W', voltageV: 'V', currentA: 'A' } as const
+const RATING_EXAMPLE = { W: '0.25, 1/4 W or 250m', V: '50 or 50 V', A: '0.3, 300m or 0.3 A' }
 const text = (max: number) => z.string().trim().max(max, `Keep it to ${max} characters`).nullish().transform(s => s || null)
 const numberOrText = z.union([z.number(), z.string()], { error: 'Give a number' }).nullish()
 
 /** Reads a rating typed as 0.25, "250m", "1/4 W" or "50 V"; null when left empty. */
 export function readRating(input: number | string | null | undefined, unit: 'W' | 'V' | 'A'): number | null {
   if (input == null || (typeof input === 'string' && !input.trim())) return null
-  const v = typeof input === 'number' ? { value: input, unit: '' } : parseValue(input)
+  let v: { value: number, unit: string }
+  try { v = typeof input === 'number' ? { value: input, unit: '' } : parseValue(input) }
+  catch { throw new Error(`"${input}" is not a rating: write a number such as ${RATING_EXAMPLE[unit]}`) }
   if (v.unit && v.unit !== unit) throw new Error(`"${input}" is in ${v.unit}; this rating is in ${unit}`)
   if (!Number.isFinite(v.value) || v.value <= 0) throw new Error(`A rating must be more than 0 ${unit}`)
   return v.value
@@ -284,7 +287,7 @@ function readingMatch(readings: { value: number, unit?: string }[]) {
   return readings.map(r => (r.unit ? and(eq(p.unit, r.unit), valueNear(r.value))! : valueNear(r.value)))
 }
 function readingText(r: { value: number, unit?: string }) {
-  return formatValue(r.value, r.unit ?? '').trim()
+  return r.unit ? formatValue(r.value, r.unit) : `${formatValue(r.value, '').trim()} (any unit)`
 }
 
 /** One page of the catalogue: `q` reads values in any notation (4k7, yellow violet red, 104) and matches text too. */
