@@ -1,6 +1,6 @@
 // Kits and their BOM revisions: reading, editing drafts, copying, releasing, diffs, imports and
 // the workbook's input. Explicit imports (no Nuxt auto-imports): the benchmark imports this file.
-import { and, asc, desc, eq, inArray, sql } from 'drizzle-orm'
+import { and, asc, desc, eq, inArray, or, sql } from 'drizzle-orm'
 import type { MySql2Database } from 'drizzle-orm/mysql2'
 import { createError } from 'h3'
 import { z } from 'zod'
@@ -8,6 +8,7 @@ import * as schema from '../db/schema'
 import { diffRevisions, type BomLine } from '../../shared/utils/bom'
 import { readRows, type ImportField, type ImportRow } from '../../shared/utils/bom-import'
 import { compressDesignators, expandDesignators } from '../../shared/utils/designators'
+import { valueQueries } from '../../shared/utils/values'
 import { indexImportCatalogue, matchImportRow, newPartFrom, readRowValue, type CataloguePart, type NewPartDraft, type PreviewRow } from './bom-import-file'
 import { loadEffectiveBom, loadRevisionBom } from './revision-bom'
 import { partValueWays, type BomWorkbookInput, type WorkbookLine } from './workbook'
@@ -75,12 +76,16 @@ export async function kitDetail(db: Reader, kitId: number) {
   const revs = await db.select({
     id: schema.revisions.id, label: schema.revisions.label, state: schema.revisions.state, parentId: schema.revisions.parentId,
     notes: schema.revisions.notes, releasedAt: schema.revisions.releasedAt, createdAt: schema.revisions.createdAt,
-    lines: sql<number>`(select cast(count(*) as signed) from ${schema.bomLines} where ${schema.bomLines.revisionId} = ${schema.revisions.id})`,
   }).from(schema.revisions).where(eq(schema.revisions.kitId, kitId)).orderBy(desc(schema.revisions.id))
+  const counts = revs.length
+    ? await db.select({ revisionId: schema.bomLines.revisionId, n: sql<number>`cast(count(*) as signed)` }).from(schema.bomLines)
+      .where(inArray(schema.bomLines.revisionId, revs.map(r => r.id))).groupBy(schema.bomLines.revisionId)
+    : []
+  const lineCount = new Map(counts.map(c => [c.revisionId, Number(c.n)]))
   const labelOf = new Map(revs.map(r => [r.id, r.label]))
   return {
     kit: { ...kit, hasPicture: !!kit.pictureKey },
-    revisions: revs.map(r => ({ ...r, lines: Number(r.lines), parentLabel: r.parentId ? labelOf.get(r.parentId) ?? null : null })),
+    revisions: revs.map(r => ({ ...r, lines: lineCount.get(r.id) ?? 0, parentLabel: r.parentId ? labelOf.get(r.parentId) ?? null : null })),
   }
 }
 
@@ -283,7 +288,7 @@ function designatorProblems(lines: { id: number, designators: string, qty: numbe
       problems.push({ lineId: l.id, message: `Designators: ${(e as Error).message}` })
       continue
     }
-    if (list.length > 0 && l.qty > 0 && list.length !== l.qty) problems.push({ lineId: l.id, message: `Quantity ${l.qty} differs from its ${list.length} designators` })
+    if (list.length > 0 && l.qty > 0 && list.length !== l.qty) problems.push({ lineId: l.id, message: `Quantity ${l.qty} differs from its ${list.length} designator${list.length === 1 ? '' : 's'}` })
     if (l.optionId) continue
     for (const d of list) {
       const other = owner.get(d)
@@ -523,12 +528,20 @@ export async function deleteRevisionOption(db: AnyDb, revisionId: number, option
   })
 }
 
-/** Catalogue parts whose name, maker's part number or value text holds the words, for the line editor. */
+const UNIT_OF_KIND: Record<string, string> = { resistor: 'Ω', capacitor: 'F', inductor: 'H', crystal: 'Hz' }
+
+/** Catalogue parts whose name, maker's part number or value text hold the words, or whose value reads the same (4k7 = 4.7 kΩ). */
 export async function searchPartsForLine(db: Reader, q: string, limit = 20) {
   const words = q.trim().split(/\s+/).filter(Boolean).slice(0, 5)
   const conds = words.map(w => sql`(${schema.parts.name} like ${`%${w}%`} or ${schema.parts.makerPartNumber} like ${`%${w}%`} or ${schema.parts.valueText} like ${`%${w}%`})`)
+  const byValue = valueQueries(q).map((r) => {
+    const near = sql`${schema.parts.value} between ${r.value * (1 - 1e-9)} and ${r.value * (1 + 1e-9)}`
+    const kinds = Object.keys(UNIT_OF_KIND).filter(k => UNIT_OF_KIND[k] === r.unit) as (typeof schema.PART_KINDS)[number][]
+    return r.unit && kinds.length ? and(near, inArray(schema.parts.kind, kinds)) : near
+  })
+  if (!conds.length && !byValue.length) return []
   return db.select({ id: schema.parts.id, kind: schema.parts.kind, name: schema.parts.name, package: schema.parts.package })
-    .from(schema.parts).where(conds.length ? and(...conds) : undefined).orderBy(asc(schema.parts.name)).limit(limit)
+    .from(schema.parts).where(or(conds.length ? and(...conds) : undefined, ...byValue)).orderBy(asc(schema.parts.kind), asc(schema.parts.value), asc(schema.parts.name)).limit(limit)
 }
 
 // ---- diff ----
@@ -655,7 +668,9 @@ export async function previewImport(db: Reader, input: ImportInput): Promise<{ r
   }
   const cat = await loadImportCatalogue(db)
   const rows = read.map((row) => {
-    const r = readRowValue(row.designators, row.valueText || row.description)
+    // A row whose designators could not be read still shows its kind from their letters.
+    const lettered = /^[A-Za-z]+\d+/.exec(row.designatorText)?.[0]
+    const r = readRowValue(row.designators.length || !lettered ? row.designators : [lettered.toUpperCase()], row.valueText || row.description)
     if (r.problem) row.warnings.push(`Value: ${r.problem}.`)
     if (r.note) row.warnings.push(`Value: ${r.note}.`)
     return { ...row, read: r, match: matchImportRow(row, r, cat) }

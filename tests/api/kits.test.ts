@@ -181,6 +181,8 @@ describe('revisions', () => {
     const revB = b.body.id
     const detailB = await org.get(`/api/revisions/${revB}`)
     expect(detailB.body.revision.parentId).toBe(revA)
+    const kit = (await org.get(`/api/kits/${kitId}`)).body
+    expect(kit.revisions.map((r: { label: string, lines: number, parentLabel: string | null }) => [r.label, r.lines, r.parentLabel])).toEqual([['B', 2, 'A'], ['A', 2, null]])
     expect(detailB.body.stages.map((s: { name: string }) => s.name)).toEqual(['Power', 'Audio'])
     expect(detailB.body.lines.map((l: { designators: string, qty: number, partId: number }) => [l.designators, l.qty, l.partId]))
       .toEqual([['R1-R3, R5', 4, resistor], ['C1', 1, capacitor]])
@@ -284,6 +286,28 @@ describe('options', () => {
   })
 })
 
+describe('options of a released revision', () => {
+  it('answers 409 on the option routes once released', async () => {
+    const kitId = await newKit(`Frozen options ${tag}`)
+    const rev = (await org.post(`/api/kits/${kitId}/revisions`, {})).body.id
+    const part = await makePart({ kind: 'hardware', name: `Frozen knob ${tag}` })
+    await org.post(`/api/revisions/${rev}/lines`, { designators: '', qty: 1, partId: part })
+    const group = (await org.post(`/api/revisions/${rev}/option-groups`, { name: 'Add-on', rule: 'zero-or-one' })).body.id
+    const option = (await org.post(`/api/revisions/${rev}/option-groups/${group}/options`, { name: 'Case' })).body.id
+    expect((await org.post(`/api/revisions/${rev}/release`)).status).toBe(200)
+    const statuses = (await Promise.all([
+      org.patch(`/api/revisions/${rev}/option-groups/${group}`, { name: 'x' }),
+      org.del(`/api/revisions/${rev}/option-groups/${group}`),
+      org.post(`/api/revisions/${rev}/option-groups/${group}/options`, { name: 'x' }),
+      org.patch(`/api/revisions/${rev}/options/${option}`, { name: 'x' }),
+      org.del(`/api/revisions/${rev}/options/${option}`),
+    ])).map(r => r.status)
+    expect(statuses).toEqual([409, 409, 409, 409, 409])
+    const d = (await org.get(`/api/revisions/${rev}`)).body
+    expect(d.groups).toEqual([{ id: group, name: 'Add-on', rule: 'zero-or-one', options: [{ id: option, name: 'Case' }] }])
+  })
+})
+
 describe('part search for the line editor', () => {
   it('finds a part by words of its name', async () => {
     const id = await makePart({ kind: 'ic', name: `Searchable regulator ${tag}`, mounting: 'tht' })
@@ -291,5 +315,13 @@ describe('part search for the line editor', () => {
     const rev = (await org.post(`/api/kits/${kitId}/revisions`, {})).body.id
     const res = await org.get(`/api/revisions/${rev}/part-search?q=${encodeURIComponent(`regulator ${tag}`)}`)
     expect(res.body.map((p: { id: number }) => p.id)).toEqual([id])
+  })
+
+  it('finds a part by its value written another way (IEC 60062 letter code 8k87 = 8.87 kΩ)', async () => {
+    const id = await makePart({ kind: 'resistor', name: `Resistor eight point eight seven ${tag}`, value: 8870, unit: 'Ω', mounting: 'tht' })
+    const kitId = await newKit(`Search value ${tag}`)
+    const rev = (await org.post(`/api/kits/${kitId}/revisions`, {})).body.id
+    const res = await org.get(`/api/revisions/${rev}/part-search?q=8k87`)
+    expect(res.body.map((p: { id: number }) => p.id)).toContain(id)
   })
 })
