@@ -18,7 +18,7 @@ export const BUILD_SAFETY = {
   transmit: [
     'This kit transmits. Putting it on the air needs an amateur radio licence: keep to its conditions and your local regulations, including permitted bands, power and RF exposure. Test into a dummy load.',
   ],
-  footer: 'These are reminders, not rules: local codes and your licence come first.',
+  footer: 'These are reminders only: local codes and your licence always come first.',
 } as const
 
 /** The safety notes for a kit (the transmit note only for transmitter kits). */

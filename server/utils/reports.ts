@@ -373,12 +373,8 @@ export async function sparesCounters(db: Db, buildDayId: number, withPackers: bo
     handOuts.set(h.partId, e)
   }
   const partIds = [...new Set([...views.flatMap(v => v.lines.map(l => l.part?.id)), ...handOuts.keys()].filter((x): x is number => x != null))]
-  const [stock, names] = partIds.length
-    ? await Promise.all([
-        availableByPart(db, partIds),
-        db.select({ id: tables.parts.id, name: tables.parts.name }).from(tables.parts).where(inArray(tables.parts.id, partIds)),
-      ])
-    : [new Map(), []]
+  const stock = partIds.length ? await availableByPart(db, partIds) : new Map<number, { onHand: number, available: number }>()
+  const names = partIds.length ? await db.select({ id: tables.parts.id, name: tables.parts.name }).from(tables.parts).where(inArray(tables.parts.id, partIds)) : []
   const sparesLeft = names.map(p => ({ partId: p.id, name: p.name, handedOut: handOuts.get(p.id)?.qty ?? 0, onHand: stock.get(p.id)?.onHand ?? 0, available: stock.get(p.id)?.available ?? 0 }))
     .sort((a, b) => b.handedOut - a.handedOut || a.available - b.available || a.name.localeCompare(b.name))
   return {

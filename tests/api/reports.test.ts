@@ -34,7 +34,7 @@ function tinyPng(withText = false, padTo = 0) {
 function reportForm(fields: Record<string, string | number | (string | number)[]>, files: { name: string, data: Buffer, type?: string }[] = []) {
   const form = new FormData()
   for (const [k, v] of Object.entries(fields)) for (const x of Array.isArray(v) ? v : [v]) form.append(k, String(x))
-  for (const f of files) form.append('photos', new Blob([f.data], { type: f.type ?? 'application/octet-stream' }), f.name)
+  for (const f of files) form.append('photos', new Blob([new Uint8Array(f.data)], { type: f.type ?? 'application/octet-stream' }), f.name)
   return form
 }
 

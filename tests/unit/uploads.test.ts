@@ -23,7 +23,7 @@ function seg(marker: number, payload: Buffer) {
 }
 const exifPayload = Buffer.concat([Buffer.from('Exif\0\0II*\0', 'latin1'), Buffer.from('GPSLatitude 51.5 N GPSLongitude 0.1 W', 'latin1')])
 const xmpPayload = Buffer.from('http://ns.adobe.com/xap/1.0/\0<x:xmpmeta><exif:GPSLatitude>51,30N</exif:GPSLatitude></x:xmpmeta>', 'latin1')
-const iptcPayload = Buffer.from('Photoshop 3.0\08BIM\x04\x04 City: Harrowmere', 'latin1')
+const iptcPayload = Buffer.from('Photoshop 3.0\x008BIM\x04\x04 City: Harrowmere', 'latin1')
 
 function pngChunk(type: string, data: Buffer) {
   const len = Buffer.alloc(4)
