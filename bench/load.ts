@@ -1,0 +1,353 @@
+// Load bench for a build day's peak, with autocannon on loopback against a stack of its own (fresh
+// database, fakes, built server): 20 packers scanning their own bags, 60 builders browsing their
+// orders and bag and filing missing-part reports, and checkouts opening, all at the same time.
+// Two phases, each bounded in time: "peak" at people's pace (every packer and builder one request a
+// second, starts spread over the second) and "stress" with no pause between requests (capacity).
+// Then the invariant checker runs on the database. Targets: p95 under 50 ms for reads and scans in
+// the peak phase, no errors, invariants hold.
+// Run: npx tsx bench/load.ts   (KW_DB_ADMIN_URL and KW_BUILD_DIR as for the tests;
+//      KW_LOAD_SECONDS per phase, default 25; KW_LOAD_PHASES=peak,stress)
+import { readFileSync } from 'node:fs'
+import { cpus, loadavg } from 'node:os'
+import { and, eq } from 'drizzle-orm'
+// @ts-expect-error autocannon ships no types
+import autocannon from 'autocannon'
+import * as schema from '../server/db/schema'
+import { runCheck } from '../server/db/check'
+import { labelUrl, signCode } from '../server/utils/codes'
+import { makeBag, makePaidBag, openDb, type PackDb } from '../tests/api/packing-data'
+import { Client, DEMO } from '../tests/support/client'
+import { startStack } from '../tests/support/stack'
+
+const SECONDS = Number(process.env.KW_LOAD_SECONDS || 25)
+const PHASES = (process.env.KW_LOAD_PHASES || 'peak,stress').split(',')
+const PACKERS = 20
+const BUILDERS = 60
+const PACKER_BAGS = Number(process.env.KW_LOAD_BAGS || 160)
+const CHECKOUT_DAYS = 4
+const REPORT_EVERY = 20 // one request in 20 from a builder files a report
+const KITS = [{ slug: 'wren-40', option: '40 m (7.030 MHz)' }, { slug: 'linnet-20' }, { slug: 'tern-atu' }, { slug: 'wren-40', option: '80 m (3.560 MHz)' }]
+const TARGET_MS = 50
+const ROUTES = {
+  scan: 'POST /api/pack/scan',
+  orders: 'GET /api/my/orders',
+  bag: 'GET /api/my/bags/:id',
+  report: 'POST /api/my/reports',
+  checkout: 'POST /api/checkout',
+} as const
+type Route = keyof typeof ROUTES
+const TARGETED: Route[] = ['scan', 'orders', 'bag']
+
+interface RouteStats { times: number[], statuses: Map<number, number>, errors: Map<string, number>, socketErrors: number }
+type Stats = Record<Route, RouteStats>
+const newStats = (): Stats => Object.fromEntries(Object.keys(ROUTES).map(r => [r, { times: [], statuses: new Map(), errors: new Map(), socketErrors: 0 }])) as Stats
+
+// ---------- the bench's own records ----------
+
+async function salesDay(db: PackDb, name: string) {
+  const now = Date.now()
+  const [day] = await db.insert(schema.buildDays).values({
+    name, date: '2027-05-15', venue: 'Bench hall', seats: 100_000, salesOpenAt: new Date(now - 86_400_000), salesCloseAt: new Date(now + 30 * 86_400_000), currency: 'GBP',
+  }).$returningId()
+  const revs = await db.select({ id: schema.revisions.id }).from(schema.revisions).where(eq(schema.revisions.state, 'released'))
+  for (const r of revs) {
+    const opts = await db.select({ id: schema.options.id }).from(schema.options).where(eq(schema.options.revisionId, r.id))
+    await db.insert(schema.offerings).values({ buildDayId: day!.id, revisionId: r.id, allowedOptionIds: opts.map(o => o.id), memberPriceMinor: 2000, nonMemberPriceMinor: 2500 })
+  }
+  return day!.id
+}
+
+/** Enough stock for every bag and checkout: one more lot of each part in its own bin, received through the ledger.
+ *  Dated oldest, so the station packs from it first and the small demo lots are not raced to zero. */
+async function topUpStock(db: PackDb, organiserId: number) {
+  const lots = await db.select().from(schema.lots)
+  const seen = new Set<number>()
+  for (const l of lots) {
+    if (seen.has(l.partId)) continue
+    seen.add(l.partId)
+    const [lot] = await db.insert(schema.lots).values({ partId: l.partId, binId: l.binId, qtyReceived: 50_000, onHand: 50_000, unitCostMinor: l.unitCostMinor, receivedOn: '2020-01-01', note: 'load bench stock' }).$returningId()
+    await db.insert(schema.ledger).values({ lotId: lot!.id, partId: l.partId, binId: l.binId, kind: 'receive', qty: 50_000, userId: organiserId, reason: 'load bench stock' })
+  }
+}
+
+async function makeUser(db: PackDb, email: string, name: string, role: 'packer' | 'builder', hash: string) {
+  const [u] = await db.insert(schema.users).values({ email, name, passwordHash: hash, member: true }).$returningId()
+  await db.insert(schema.userRoles).values({ userId: u!.id, role })
+  return u!.id
+}
+
+async function inBatches<T, R>(items: T[], width: number, fn: (item: T, i: number) => Promise<R>) {
+  const out: R[] = new Array(items.length)
+  for (let i = 0; i < items.length; i += width) {
+    const part = await Promise.all(items.slice(i, i + width).map((it, j) => fn(it, i + j)))
+    part.forEach((r, j) => { out[i + j] = r })
+  }
+  return out
+}
+
+interface Builder { cookie: string, bagId: number, lineId: number, reportBody: string }
+
+/** Builders with a paid Tern order at the day and a sealed bag (packed through the API by the packers). */
+async function makeBuilders(db: PackDb, base: string, dayId: number, hash: string, packers: Client[], secret: string) {
+  const [offering] = await db.select({ id: schema.offerings.id }).from(schema.offerings)
+    .innerJoin(schema.revisions, eq(schema.revisions.id, schema.offerings.revisionId)).innerJoin(schema.kits, eq(schema.kits.id, schema.revisions.kitId))
+    .where(and(eq(schema.offerings.buildDayId, dayId), eq(schema.kits.slug, 'tern-atu')))
+  const rows: { userId: number, bagId: number, code: string, email: string }[] = []
+  for (let i = 0; i < BUILDERS; i++) {
+    const email = `load.builder${i + 1}@club.invalid`
+    const userId = await makeUser(db, email, `Load Builder ${i + 1}`, 'builder', hash)
+    const [order] = await db.insert(schema.orders).values({
+      buildDayId: dayId, offeringId: offering!.id, userId, optionIds: [], state: 'paid', amountMinor: 2000, currency: 'GBP', seat: i + 1, stripeSessionId: `cs_load_${i}`, paidAt: new Date(),
+    }).$returningId()
+    const bag = await makeBag(db, order!.id)
+    rows.push({ userId, bagId: bag.id, code: bag.code, email })
+  }
+  await inBatches(rows, packers.length, (r, i) => packWhole(packers[i % packers.length]!, base, secret, dayId, r))
+  const clients = await inBatches(rows, 8, r => new Client(base).login(r.email))
+  const builders: Builder[] = []
+  for (const [i, r] of rows.entries()) {
+    const [item] = await db.select({ lineId: schema.bagItems.lineId }).from(schema.bagItems).where(eq(schema.bagItems.bagId, r.bagId)).limit(1)
+    builders.push({ cookie: clients[i]!.cookie, bagId: r.bagId, lineId: item!.lineId, reportBody: reportForm({ bagId: r.bagId, lineIds: item!.lineId, qty: 1, reason: 'missing', comment: 'Load bench report' }) })
+  }
+  return builders
+}
+
+const BOUNDARY = 'kwloadbenchboundary'
+function reportForm(fields: Record<string, string | number>) {
+  return `${Object.entries(fields).map(([k, v]) => `--${BOUNDARY}\r\nContent-Disposition: form-data; name="${k}"\r\n\r\n${v}\r\n`).join('')}--${BOUNDARY}--\r\n`
+}
+
+type View = { pouches: { items: { itemId: number, qtyNeeded: number, qtyPacked: number, bins: string[], countSingly: boolean }[] }[] }
+
+/** The next scan for a packer's bag: the first open line from its suggested bin (one at a time for parts counted singly). */
+function nextScan(view: View, bagId: number, dayId: number, secret: string) {
+  const open = view.pouches.flatMap(p => p.items).find(i => i.qtyPacked < i.qtyNeeded)
+  if (!open) return null
+  const left = open.qtyNeeded - open.qtyPacked
+  return { text: signCode('bin', open.bins[0]!, secret), buildDayId: dayId, bagId, itemId: open.itemId, qty: open.countSingly ? 1 : left, confirmStandIn: true }
+}
+
+async function packWhole(c: Client, base: string, secret: string, dayId: number, bag: { bagId: number, code: string }) {
+  let res = await c.post('/api/pack/scan', { text: labelUrl(base, 'bag', bag.code, secret), buildDayId: dayId })
+  for (let guard = 0; guard < 200 && res.status === 200 && !res.body.sealed; guard++) {
+    const body = nextScan(res.body.bag, bag.bagId, dayId, secret)
+    if (!body) break
+    res = await c.post('/api/pack/scan', body)
+  }
+  if (res.status !== 200 || !res.body.sealed) throw new Error(`setting up: bag ${bag.code} did not seal (${res.status} ${res.body.sealError ?? JSON.stringify(res.body).slice(0, 200)})`)
+}
+
+// ---------- virtual users ----------
+
+interface Workload { route: Route | 'builder', opts: Record<string, unknown>, delayMs: number }
+
+function packerUser(i: number, cookie: string, base: string, secret: string, dayId: number, queue: { id: number, code: string }[], stats: Stats, sealed: { n: number }): Workload['opts'] {
+  const headers = { cookie, 'content-type': 'application/json', accept: 'application/json' }
+  // The packer's bag lives here, not in autocannon's context, which is reset after every round of `requests`.
+  const at: { bag?: { id: number, code: string }, view?: View } = {}
+  return {
+    requests: [{
+      method: 'POST',
+      path: '/api/pack/scan',
+      setupRequest: (req: Record<string, unknown>) => {
+        let body: Record<string, unknown> | null = at.bag && at.view ? nextScan(at.view, at.bag.id, dayId, secret) : null
+        if (!body) {
+          at.bag = queue.shift()
+          at.view = undefined
+          if (!at.bag) throw new Error('the packers ran out of bags: raise KW_LOAD_BAGS')
+          body = { text: labelUrl(base, 'bag', at.bag.code, secret), buildDayId: dayId }
+        }
+        return { ...req, headers, body: JSON.stringify(body) }
+      },
+      onResponse: (status: number, body: string) => {
+        record(stats, 'scan', status, body)
+        if (status !== 200) {
+          at.bag = undefined
+          return
+        }
+        const res = JSON.parse(body)
+        at.view = res.bag
+        if (res.sealed) {
+          sealed.n++
+          at.bag = undefined
+        }
+      },
+    }],
+    title: `packer ${i + 1}`,
+  }
+}
+
+function builderUser(i: number, b: Builder, stats: Stats): Workload['opts'] {
+  const headers = { cookie: b.cookie, accept: 'application/json' }
+  const get = (route: Route, path: string) => ({ method: 'GET', path, headers, onResponse: (s: number, body: string) => record(stats, route, s, body) })
+  const requests: unknown[] = []
+  for (let k = 0; k < REPORT_EVERY - 1; k++) requests.push(k % 2 ? get('bag', `/api/my/bags/${b.bagId}`) : get('orders', '/api/my/orders'))
+  requests.push({
+    method: 'POST', path: '/api/my/reports', headers: { ...headers, 'content-type': `multipart/form-data; boundary=${BOUNDARY}` }, body: b.reportBody,
+    onResponse: (s: number, body: string) => record(stats, 'report', s, body),
+  })
+  // Builders start at different points of their round, so reports are spread over time.
+  const shift = (i * 7) % requests.length
+  return { requests: [...requests.slice(shift), ...requests.slice(0, shift)], title: `builder ${i + 1}` }
+}
+
+function checkoutUser(i: number, pairs: { cookie: string, dayId: number, offeringId: number }[], stats: Stats): Workload['opts'] {
+  return {
+    requests: [{
+      method: 'POST',
+      path: '/api/checkout',
+      setupRequest: (req: Record<string, unknown>) => {
+        const p = pairs.shift()
+        if (!p) throw new Error('no checkout left')
+        return { ...req, headers: { cookie: p.cookie, 'content-type': 'application/json', accept: 'application/json' }, body: JSON.stringify({ buildDayId: p.dayId, offeringId: p.offeringId }) }
+      },
+      onResponse: (s: number, body: string) => record(stats, 'checkout', s, body),
+    }],
+    title: `checkout ${i + 1}`,
+  }
+}
+
+// autocannon calls onResponse and then emits 'response' for the same reply, synchronously: the
+// route noted here is the one the next 'response' event times.
+let lastRoute: Route = 'scan'
+function record(stats: Stats, route: Route, status: number, body: string) {
+  lastRoute = route
+  const s = stats[route]
+  s.statuses.set(status, (s.statuses.get(status) ?? 0) + 1)
+  if (status < 200 || status > 299) {
+    let message = ''
+    try { message = JSON.parse(body).message ?? '' } catch { message = body.slice(0, 80) }
+    const key = `${status} ${message}`.slice(0, 140)
+    s.errors.set(key, (s.errors.get(key) ?? 0) + 1)
+  }
+}
+
+function run(base: string, opts: Record<string, unknown>, stats: Stats, fallback: Route, seconds: number, rate: number | null, maxRequests?: number) {
+  return new Promise<{ errors: number, timeouts: number }>((ok, fail) => {
+    const instance = autocannon({
+      url: base, connections: 1, pipelining: 1, duration: seconds, timeout: 10,
+      ...(rate ? { connectionRate: rate } : {}), ...(maxRequests ? { maxConnectionRequests: maxRequests } : {}), ...opts,
+    }, (err: Error | null, result: { errors: number, timeouts: number }) => (err ? fail(err) : ok(result)))
+    instance.on('response', (_c: unknown, _status: number, _bytes: number, ms: number) => { stats[lastRoute].times.push(ms) })
+    instance.on('reqError', () => { stats[fallback].socketErrors++ })
+  })
+}
+
+// ---------- figures ----------
+
+function percentile(sorted: number[], p: number) {
+  if (!sorted.length) return NaN
+  return sorted[Math.min(sorted.length - 1, Math.ceil((p / 100) * sorted.length) - 1)]!
+}
+
+/** CPU seconds (user + system) a process has used so far, from /proc. */
+function cpuSeconds(pid: number) {
+  const fields = readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1]!.split(' ')
+  return (Number(fields[11]) + Number(fields[12])) / 100 // utime, stime in clock ticks (100 Hz on Linux)
+}
+
+function report(phase: string, stats: Stats, seconds: number, appCpu: number) {
+  console.log(`\n== ${phase}: ${seconds.toFixed(1)} s; app process CPU ${appCpu.toFixed(1)} s (${(100 * appCpu / seconds).toFixed(0)} % of one core); load average now ${loadavg().map(l => l.toFixed(1)).join(' ')}`)
+  console.log(`${'route'.padEnd(24)}${'requests'.padStart(9)}${'req/s'.padStart(8)}${'median'.padStart(9)}${'p95'.padStart(9)}${'p99'.padStart(9)}${'max'.padStart(9)}${'errors'.padStart(8)}`)
+  let total = 0
+  let errors = 0
+  const misses: string[] = []
+  for (const route of Object.keys(ROUTES) as Route[]) {
+    const s = stats[route]
+    const sorted = [...s.times].sort((a, b) => a - b)
+    const bad = [...s.statuses].filter(([code]) => code < 200 || code > 299).reduce((n, [, c]) => n + c, 0) + s.socketErrors
+    total += sorted.length
+    errors += bad
+    const ms = (v: number) => (Number.isNaN(v) ? '–' : `${v.toFixed(1)}`).padStart(9)
+    console.log(`${ROUTES[route].padEnd(24)}${String(sorted.length).padStart(9)}${(sorted.length / seconds).toFixed(1).padStart(8)}${ms(percentile(sorted, 50))}${ms(percentile(sorted, 95))}${ms(percentile(sorted, 99))}${ms(sorted.at(-1) ?? NaN)}${String(bad).padStart(8)}`)
+    for (const [what, n] of s.errors) console.log(`${''.padEnd(26)}${n} × ${what}`)
+    if (s.socketErrors) console.log(`${''.padEnd(26)}${s.socketErrors} × connection error or timeout`)
+    if (TARGETED.includes(route) && percentile(sorted, 95) >= TARGET_MS) misses.push(`${ROUTES[route]} p95 ${percentile(sorted, 95).toFixed(1)} ms`)
+  }
+  console.log(`${'all'.padEnd(24)}${String(total).padStart(9)}${(total / seconds).toFixed(1).padStart(8)}${''.padStart(36)}${String(errors).padStart(8)}`)
+  console.log(`app CPU per request: ${(1000 * appCpu / Math.max(1, total)).toFixed(2)} ms`)
+  return { misses, errors }
+}
+
+// ---------- main ----------
+
+async function main() {
+  console.log(`Load bench: ${PACKERS} packers, ${BUILDERS} builders, checkouts; ${SECONDS} s per phase (${PHASES.join(', ')}); ${cpus().length} cores, load average ${loadavg().map(l => l.toFixed(1)).join(' ')}`)
+  const t0 = performance.now()
+  const stack = await startStack('load')
+  const { conn, db } = await openDb(stack.dbUrl)
+  const base = stack.baseUrl
+  const secret = stack.labelSecret
+  try {
+    const [organiser] = await db.select().from(schema.users).where(eq(schema.users.email, DEMO.organiser))
+    const hash = organiser!.passwordHash
+    const dayId = await salesDay(db, 'Load bench build day')
+    await topUpStock(db, organiser!.id)
+    const packerIds = await inBatches(Array.from({ length: PACKERS }, (_, i) => i), 1, i => makeUser(db, `load.packer${i + 1}@club.invalid`, `Load Packer ${i + 1}`, 'packer', hash))
+    const packers = await inBatches(packerIds, 8, (_, i) => new Client(base).login(`load.packer${i + 1}@club.invalid`))
+    const queue: { id: number, code: string }[] = []
+    for (let i = 0; i < PACKER_BAGS; i++) {
+      const bag = await makePaidBag(db, { buildDayId: dayId, ...KITS[i % KITS.length]!, seat: 100 + i })
+      queue.push({ id: bag.id, code: bag.code })
+    }
+    const builders = await makeBuilders(db, base, dayId, hash, packers, secret)
+    const checkoutDays = await inBatches(Array.from({ length: CHECKOUT_DAYS }, (_, i) => i), 1, i => salesDay(db, `Load bench checkout day ${i + 1}`))
+    const offerings = new Map<number, number>()
+    for (const d of checkoutDays) {
+      const [o] = await db.select({ id: schema.offerings.id }).from(schema.offerings)
+        .innerJoin(schema.revisions, eq(schema.revisions.id, schema.offerings.revisionId)).innerJoin(schema.kits, eq(schema.kits.id, schema.revisions.kitId))
+        .where(and(eq(schema.offerings.buildDayId, d), eq(schema.kits.slug, 'tern-atu')))
+      offerings.set(d, o!.id)
+    }
+    const pairs = checkoutDays.flatMap(d => builders.map(b => ({ cookie: b.cookie, dayId: d, offeringId: offerings.get(d)! })))
+    console.log(`set up in ${((performance.now() - t0) / 1000).toFixed(0)} s: ${PACKER_BAGS} bags to pack, ${BUILDERS} builders with sealed bags, ${pairs.length} checkouts available`)
+
+    const results: { phase: string, misses: string[], errors: number }[] = []
+    for (const phase of PHASES) {
+      const paced = phase === 'peak'
+      const stats = newStats()
+      const sealed = { n: 0 }
+      const users: Workload[] = [
+        ...packers.map((p, i) => ({ route: 'scan' as const, opts: packerUser(i, p.cookie, base, secret, dayId, queue, stats, sealed), delayMs: paced ? (i * 1000) / PACKERS : 0 })),
+        ...builders.map((b, i) => ({ route: 'builder' as const, opts: builderUser(i, b, stats), delayMs: paced ? (i * 1000) / BUILDERS + 7 : 0 })),
+        ...[0, 1].map(i => ({ route: 'checkout' as const, opts: checkoutUser(i, pairs, stats), delayMs: paced ? 250 + i * 500 : 0 })),
+      ]
+      const perCheckoutConn = Math.floor(pairs.length / 2)
+      const cpu0 = cpuSeconds(stack.app.child.pid!)
+      const started = performance.now()
+      await Promise.all(users.map(async (u) => {
+        await new Promise(r => setTimeout(r, u.delayMs))
+        const fallback: Route = u.route === 'builder' ? 'orders' : u.route
+        return run(base, u.opts, stats, fallback, SECONDS, paced ? 1 : null, u.route === 'checkout' ? perCheckoutConn : undefined)
+      }))
+      const elapsed = (performance.now() - started) / 1000
+      const r = report(paced ? 'peak (each person one request a second)' : 'stress (no pause between requests)', stats, elapsed, cpuSeconds(stack.app.child.pid!) - cpu0)
+      console.log(`bags sealed during the phase: ${sealed.n}; checkouts left: ${pairs.length}`)
+      results.push({ phase, ...r })
+    }
+
+    const { checks, problems } = await runCheck(stack.dbUrl)
+    console.log('\n== invariant checker')
+    for (const c of checks) {
+      const mine = problems.filter(p => p.check === c)
+      console.log(`${mine.length ? 'BROKEN' : 'ok    '}  ${c}`)
+      for (const p of mine.slice(0, 10)) console.log(`          ${p.detail}`)
+    }
+    console.log(problems.length ? `${problems.length} problem(s) found` : 'all rules hold')
+
+    const peak = results.find(r => r.phase === 'peak')
+    if (peak) {
+      const ok = !peak.misses.length && !peak.errors && !problems.length
+      console.log(`\ntargets (peak phase): ${ok ? 'met' : 'NOT met'} — p95 < ${TARGET_MS} ms for reads and scans${peak.misses.length ? ` (missed: ${peak.misses.join('; ')})` : ''}, ${peak.errors} errors, ${problems.length} invariant problems`)
+    }
+  }
+  finally {
+    await conn.end()
+    await stack.stop()
+  }
+}
+
+main().then(() => process.exit(0), (err) => {
+  console.error(err)
+  process.exit(1)
+})
