@@ -281,6 +281,7 @@ type DayRow = typeof tables.buildDays.$inferSelect
 async function onCompleted(tx: Tx, day: DayRow, order: OrderRow, session: Stripe.Checkout.Session, demand: KitDemand | null, after: Mail[]) {
   if (order.state === 'paid') return 'already paid'
   if (order.state === 'refunded') return 'already refunded'
+  if (session.payment_status !== 'paid') return `completed but not paid (${session.payment_status}): nothing to do yet`
   const paymentIntent = typeof session.payment_intent === 'string' ? session.payment_intent : session.payment_intent?.id ?? null
   const seat = await freeSeat(tx, day.id, day.seats)
   let revived = false

@@ -18,7 +18,7 @@ export function useStripe(): Stripe {
 }
 
 /** Verifies a webhook's signature over its raw body; throws when it does not match. */
-export function verifyStripeEvent(rawBody: string, signature: string) {
+export function verifyStripeEvent(rawBody: string | Buffer, signature: string) {
   return useStripe().webhooks.constructEvent(rawBody, signature, String(useRuntimeConfig().stripe.webhookSecret))
 }
 

@@ -100,8 +100,8 @@ export async function joinWaitlist(user: { id: number }, input: CheckoutInput) {
     throw createError({ statusCode: 409, statusMessage: 'Available', message: 'This kit is still available: you can buy it now' })
   }
   const [entry] = await db.insert(W).values({ buildDayId: row.day.id, offeringId: row.offering.id, userId: user.id, optionIds: input.optionIds }).$returningId()
-  const [{ n }] = await db.select({ n: sql<number>`count(*)` }).from(W).where(and(eq(W.buildDayId, row.day.id), eq(W.state, 'waiting'), lte(W.id, entry!.id)))
-  return { id: entry!.id, position: Number(n) }
+  const [ahead] = await db.select({ n: sql<number>`count(*)` }).from(W).where(and(eq(W.buildDayId, row.day.id), eq(W.state, 'waiting'), lte(W.id, entry!.id)))
+  return { id: entry!.id, position: Number(ahead?.n ?? 1) }
 }
 
 async function offerFor(userId: number, token: string) {
