@@ -1,6 +1,6 @@
 // Reconciliation of a revision and an options mix against stock, and the buy list that follows.
 // Explicit imports (no Nuxt auto-imports): plain unit tests import the pure mix functions.
-import { asc, eq, inArray } from 'drizzle-orm'
+import { asc, eq, inArray, sql } from 'drizzle-orm'
 import type { MySql2Database } from 'drizzle-orm/mysql2'
 import type ExcelJSModule from 'exceljs'
 import { createError } from 'h3'
@@ -116,6 +116,7 @@ const kitCount = z.coerce.number({ error: 'Give a number of kits' }).int('Kits c
 const spareRule = z.object({
   perKit: z.number().min(0, 'Spares cannot be negative').max(1000).optional(),
   percent: z.number().min(0, 'Spares cannot be negative').max(1000).optional(),
+  maxUnitCostMinor: z.number().int('Give the price in minor units').min(0).optional(),
 })
 
 export const reconcileQuery = z.object({
@@ -257,15 +258,18 @@ function lineReports(data: ReconcileData, result: ReconcileResult, counts: numbe
 // ---------------------------------------------------------------------------------------
 // The buy list
 
+/** A spares rule for a kind of part; maxUnitCostMinor keeps it to cheap parts (a trimmer is not a small passive). */
+export type KitSpareRule = SpareRule & { maxUnitCostMinor?: number }
+
 /** Spares rules per part kind ('*' for the rest). Common practice: one extra of each small passive per kit. */
-export const DEFAULT_SPARES: Record<string, SpareRule> = { resistor: { perKit: 1 }, capacitor: { perKit: 1 } }
+export const DEFAULT_SPARES: Record<string, KitSpareRule> = { resistor: { perKit: 1, maxUnitCostMinor: 10 }, capacitor: { perKit: 1, maxUnitCostMinor: 10 } }
 
 /**
  * What to buy per part: the shortfall, plus the spares the rules ask for beyond the stock left
  * over once the target is allocated. Spares per part: perKit × the kits using the part, or percent
  * of its total quantity, rounded up; the larger (sparesAllowance's rule over the whole mix).
  */
-export function buyNeeds(data: ReconcileData, report: ReconcileReport, rules: Record<string, SpareRule>) {
+export function buyNeeds(data: ReconcileData, report: ReconcileReport, rules: Record<string, KitSpareRule>, unitCost = new Map<number, number>()) {
   const byPart = new Map<number, { partId: number, partName: string, kind: string, short: number, qty: number, allocated: number }>()
   for (const l of report.lines) {
     const p = byPart.get(l.partId) ?? { partId: l.partId, partName: l.partName, kind: l.kind, short: 0, qty: 0, allocated: 0 }
@@ -280,7 +284,9 @@ export function buyNeeds(data: ReconcileData, report: ReconcileReport, rules: Re
   // A part on several lines of one kit is still one part per kit for a per-kit rule.
   const kitsUsing = kitsUsingPart(data, report)
   return [...byPart.values()].map((p) => {
-    const rule = rules[p.kind] ?? rules['*']
+    const kindRule = rules[p.kind] ?? rules['*']
+    const cost = unitCost.get(p.partId)
+    const rule = kindRule?.maxUnitCostMinor !== undefined && cost !== undefined && cost > kindRule.maxUnitCostMinor ? undefined : kindRule
     const kits = kitsUsing.get(p.partId) ?? 0
     const perKit = rule?.perKit && kits > 0 ? sparesAllowance([{ partId: 'p', kind: p.kind, qtyPerKit: 1 }], kits, { [p.kind]: { perKit: rule.perKit } })[0]?.qty ?? 0 : 0
     const percent = rule?.percent && p.qty > 0 ? sparesAllowance([{ partId: 'p', kind: p.kind, qtyPerKit: p.qty }], 1, { [p.kind]: { percent: rule.percent } })[0]?.qty ?? 0 : 0
@@ -301,6 +307,19 @@ function kitsUsingPart(data: ReconcileData, report: ReconcileReport) {
   return out
 }
 
+/** The lowest known unit cost per part, from its lots and its offers' prices (to tell cheap parts). */
+async function lowestUnitCosts(db: Reader, partIds: number[], offers: Offer[]) {
+  const out = new Map<number, number>()
+  const keep = (partId: number, cost: number) => out.set(partId, Math.min(cost, out.get(partId) ?? Infinity))
+  if (partIds.length) {
+    const rows = await db.select({ partId: schema.lots.partId, cost: sql<number>`min(${schema.lots.unitCostMinor})` })
+      .from(schema.lots).where(inArray(schema.lots.partId, partIds)).groupBy(schema.lots.partId)
+    for (const r of rows) keep(r.partId, Number(r.cost))
+  }
+  for (const o of offers) for (const b of o.breaks) keep(Number(o.partId), b.unitPriceMinor)
+  return out
+}
+
 /** Supplier offers for some parts, in the buy list's terms. */
 export async function loadOffers(db: Reader, partIds: number[]): Promise<Offer[]> {
   if (!partIds.length) return []
@@ -312,10 +331,11 @@ export async function loadOffers(db: Reader, partIds: number[]): Promise<Offer[]
 }
 
 /** The buy list for a report: needs per part, the cheapest purchase of each, grouped by supplier. */
-export async function buyListReport(db: Reader, data: ReconcileData, report: ReconcileReport, opts: { spares: Record<string, SpareRule>, currency?: string }) {
-  const needs = buyNeeds(data, report, opts.spares)
+export async function buyListReport(db: Reader, data: ReconcileData, report: ReconcileReport, opts: { spares: Record<string, KitSpareRule>, currency?: string }) {
+  const partIds = [...new Set(report.lines.map(l => l.partId))]
+  const offers = await loadOffers(db, partIds)
+  const needs = buyNeeds(data, report, opts.spares, await lowestUnitCosts(db, partIds, offers))
   const wanted = needs.filter(n => n.buy > 0)
-  const offers = await loadOffers(db, wanted.map(n => n.partId))
   const names = new Map(needs.map(n => [String(n.partId), n.partName]))
   let list: BuyList
   try {

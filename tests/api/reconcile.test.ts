@@ -147,6 +147,10 @@ describe('buy list', () => {
     expect(b.items.find((i: { partId: string }) => i.partId === String(P.F))).toMatchObject({ need: 8, qty: 8, totalMinor: 96 })
     expect(b.totalMinor).toBe(496)
     expect(b.uncovered).toEqual([{ partId: String(P.A), qty: 30, partName: `Test resistor A ${stem}` }])
+    // A costs 0.10 a piece (its lot), so a rule for parts up to 0.09 leaves it out.
+    const capped = (await org.get(`/api/buy-list?${query({ spares: { ...spares, resistor: { perKit: 2, maxUnitCostMinor: 9 } } })}`)).body
+    expect(capped.uncovered).toEqual([])
+    expect(capped.needs.find((n: { partId: number }) => n.partId === P.A)).toMatchObject({ spares: 0, buy: 0 })
   })
 
   it('exports CSV and a workbook grouped by supplier, with the same totals and neutralised text', async () => {
