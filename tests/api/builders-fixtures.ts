@@ -50,13 +50,16 @@ export interface KitScenario {
 }
 
 /**
- * A kit of the test's own on the demo build day: PCB1, R1–R2 (1 kΩ), Q1 (NPN, a CBE stand-in with a
+ * A kit of the test's own on a build day of its own: PCB1, R1–R2 (1 kΩ), Q1 (NPN, a CBE stand-in with a
  * pinout warning allowed), C1 (100 nF, no stand-ins), HW1 (4 screws); stock 50 of each in one bin,
  * and 2 of the 1 kΩ in a spares bin.
  */
 export async function makeKitScenario(db: BuildersDb, opts: { transmits?: boolean } = {}): Promise<KitScenario> {
   const t = tag()
-  const [day] = await db.select({ id: schema.buildDays.id }).from(schema.buildDays).where(eq(schema.buildDays.name, 'Harrowmere Winter Build Day'))
+  const [day] = await db.insert(schema.buildDays).values({
+    name: `Builders test day ${t}`, date: '2027-05-08', venue: 'Test hall', seats: 100,
+    salesOpenAt: new Date('2027-01-01T00:00:00Z'), salesCloseAt: new Date('2027-05-01T00:00:00Z'), currency: 'GBP',
+  }).$returningId()
   const organiser = await userId(db, 'olwen.hartley@club.invalid')
   const defs: Record<PartKey, typeof schema.parts.$inferInsert> = {
     pcb: { kind: 'board', name: `Test board ${t}` },
