@@ -1,3 +1,6 @@
+import { join } from 'node:path'
+import { copyModuleSyncTargets } from './server/build/copy-module-sync'
+
 // Build and output folders can be moved with KW_BUILD_DIR so that several builds
 // (CI, a developer's, a helper's) do not overwrite each other.
 const buildRoot = process.env.KW_BUILD_DIR
@@ -36,6 +39,11 @@ export default defineNuxtConfig({
     uploadsDir: '.data/uploads',
   },
   nitro: {
+    hooks: {
+      compiled(nitro) {
+        copyModuleSyncTargets(join(nitro.options.output.serverDir, 'node_modules'), join(nitro.options.rootDir, 'node_modules'))
+      },
+    },
     ...(buildRoot ? { output: { dir: `${buildRoot}/.output` } } : {}),
     storage: {
       uploads: { driver: 'fs', base: process.env.NUXT_UPLOADS_DIR || '.data/uploads' },

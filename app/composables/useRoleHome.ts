@@ -10,6 +10,8 @@ export const NAV: { to: string, label: string, roles: Role[] }[] = [
   { to: '/orders', label: 'Orders', roles: ['organiser'] },
   { to: '/pack', label: 'Packing', roles: ['packer', 'organiser'] },
   { to: '/spares', label: 'Spares desk', roles: ['organiser', 'packer'] },
+  { to: '/collect', label: 'Collection', roles: ['organiser', 'packer'] },
+  { to: '/rework', label: 'Rework', roles: ['organiser'] },
   { to: '/people', label: 'People', roles: ['organiser'] },
   { to: '/my', label: 'My kit', roles: ['builder'] },
   { to: '/shop', label: 'Buy a kit', roles: ['builder'] },

@@ -54,7 +54,7 @@ const CHECKS: Check[] = [
     name: 'a sealed bag\'s picks match what it holds',
     query: `select b.id, b.code, packed.n as packed, coalesce(-picked.n, 0) as picked from bags b
             join (select bag_id, sum(qty_packed) as n from bag_items group by bag_id) packed on packed.bag_id = b.id
-            left join (select bag_id, sum(qty) as n from ledger where bag_id is not null and kind in ('pick', 'return') group by bag_id) picked on picked.bag_id = b.id
+            left join (select bag_id, sum(qty) as n from ledger where bag_id is not null and kind in ('pick', 'return', 'rework') group by bag_id) picked on picked.bag_id = b.id
             where b.state in ('sealed', 'collected') and packed.n <> coalesce(-picked.n, 0)`,
     explain: r => `bag ${r.code}: ${r.packed} parts packed but ${r.picked} picked from stock`,
   },
