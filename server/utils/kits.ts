@@ -214,6 +214,10 @@ export async function releaseRevision(db: AnyDb, revisionId: number, userId: num
       const list = open.slice(0, 8).map(l => l.designators || l.valueText || `line ${l.id}`).join('; ')
       fail(409, `Choose a catalogue part for every line before releasing: ${open.length} line${open.length === 1 ? ' has' : 's have'} only value text (${list}${open.length > 8 ? ' …' : ''}).`, { lineIds: open.map(l => l.id) })
     }
+    const groups = await tx.select({ id: schema.optionGroups.id, name: schema.optionGroups.name }).from(schema.optionGroups).where(eq(schema.optionGroups.revisionId, revisionId))
+    const withOptions = new Set((await tx.select({ groupId: schema.options.groupId }).from(schema.options).where(eq(schema.options.revisionId, revisionId))).map(o => o.groupId))
+    const empty = groups.filter(g => !withOptions.has(g.id))
+    if (empty.length) fail(409, `Option group ${empty.map(g => `"${g.name}"`).join(', ')} has no options: add options or delete the group before releasing.`)
     await tx.update(schema.revisions).set({ state: 'released', releasedAt: new Date() }).where(and(eq(schema.revisions.id, revisionId), eq(schema.revisions.state, 'draft')))
     await tx.insert(schema.auditLog).values({ userId, action: 'revision.release', subjectType: 'revision', subjectId: String(revisionId), detail: { label: rev.label } })
     return { id: revisionId, state: 'released' as const }

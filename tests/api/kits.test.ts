@@ -293,6 +293,9 @@ describe('options of a released revision', () => {
     const part = await makePart({ kind: 'hardware', name: `Frozen knob ${tag}` })
     await org.post(`/api/revisions/${rev}/lines`, { designators: '', qty: 1, partId: part })
     const group = (await org.post(`/api/revisions/${rev}/option-groups`, { name: 'Add-on', rule: 'zero-or-one' })).body.id
+    const refused = await org.post(`/api/revisions/${rev}/release`)
+    expect(refused.status).toBe(409)
+    expect(refused.body.message).toMatch(/"Add-on" has no options/)
     const option = (await org.post(`/api/revisions/${rev}/option-groups/${group}/options`, { name: 'Case' })).body.id
     expect((await org.post(`/api/revisions/${rev}/release`)).status).toBe(200)
     const statuses = (await Promise.all([

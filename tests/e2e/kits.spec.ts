@@ -33,6 +33,7 @@ async function fixRow(page: Page, row: number, fields: { designators?: string, q
 
 test.describe('kits and BOM revisions', () => {
   test('imports a messy CSV, fixes the flagged rows, releases A, makes B with two changes, diffs and downloads the workbook', async ({ page }) => {
+    test.setTimeout(180_000) // a long flow of many steps, on a machine shared by several builds
     page.on('dialog', d => d.accept())
     await signIn(page, DEMO.organiser)
     await page.goto('/kits')
