@@ -175,7 +175,8 @@ export const usePackingStore = defineStore('packing', () => {
     const code = import.meta.client ? sessionStorage.getItem(BAG_KEY) : null
     if (!code || current.value) return
     await reload(code)
-    if (current.value && current.value.bag.claim?.userId !== userId) setBag(null)
+    const restored = current.value as PackBag | null
+    if (restored && restored.bag.claim?.userId !== userId) setBag(null)
   }
 
   return { buildDayId, current, prompt, message, lit, queue, busy, cue, log, enqueue, confirm, cancel, undo, seal, release, reload, restore }

@@ -125,16 +125,27 @@ export async function loadBagHeaders(db: AnyDb, where: { ids?: number[], codes?:
     .leftJoin(sealer, eq(sealer.id, B.sealedBy))
     .where(cond)
     .orderBy(asc(schema.orders.seat), asc(B.id))
-  const optionIds = [...new Set(rows.flatMap(r => r.optionIds ?? []))]
-  const names = optionIds.length
-    ? new Map((await db.select({ id: schema.options.id, name: schema.options.name }).from(schema.options).where(inArray(schema.options.id, optionIds))).map(o => [o.id, o.name]))
-    : new Map<number, string>()
+  const names = await optionNames(db, [...new Set(rows.flatMap(r => r.optionIds ?? []))])
   return rows.map(({ optionIds: ids, claimLapsed, claimerName, sealerName, ...r }) => ({
     ...r,
     options: (ids ?? []).map(id => names.get(id) ?? `option ${id}`),
     claim: r.claimedBy && !Number(claimLapsed) ? { userId: r.claimedBy, name: claimerName ?? '', at: r.claimedAt } : null,
     sealedByName: sealerName,
   }))
+}
+
+const optionCache = new Map<number, { name: string, at: number }>()
+const OPTION_TTL_MS = 30_000
+
+/** Option names by id, remembered for a while (every scan shows them; they are renamed rarely). */
+async function optionNames(db: AnyDb, ids: number[]) {
+  const now = Date.now()
+  const missing = ids.filter(id => (optionCache.get(id)?.at ?? 0) < now - OPTION_TTL_MS)
+  if (missing.length) {
+    const rows = await db.select({ id: schema.options.id, name: schema.options.name }).from(schema.options).where(inArray(schema.options.id, missing))
+    for (const o of rows) optionCache.set(o.id, { name: o.name, at: now })
+  }
+  return new Map(ids.flatMap(id => (optionCache.has(id) ? [[id, optionCache.get(id)!.name] as const] : [])))
 }
 
 export type BagItemRow = Awaited<ReturnType<typeof loadBagItems>>[number]

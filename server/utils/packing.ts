@@ -2,7 +2,7 @@ import { and, asc, desc, eq, inArray, isNull, or, sql } from 'drizzle-orm'
 import { createError, setResponseHeader, setResponseHeaders, setResponseStatus, type H3Event } from 'h3'
 import { z } from 'zod'
 import * as schema from '../db/schema'
-import { bagSwapPart, bagTotals, COUNTED_SINGLY, loadBagHeaders, loadBagItems, loadSwapRules, pendingWhere, planPicks, pouchesOf, standInVerdict, type BagItemRow } from './bags'
+import { bagSwapPart, bagTotals, COUNTED_SINGLY, loadBagHeaders, loadBagItems, loadSwapRules, pendingWhere, pouchesOf, standInVerdict, type BagItemRow } from './bags'
 import { isBagCode, looksLikeBareCode, readScan } from './codes'
 import { SHEET_LAYOUTS, validateLayout, type SheetLayout } from './labels'
 import { moveStock } from './stock'
@@ -26,15 +26,34 @@ export type BagView = Awaited<ReturnType<typeof bagView>>
 
 /** The bag as the station shows it: header, pouches with lines and suggested bins, totals, the scan undo would take back. */
 export async function bagView(db: Db, bagId: number) {
-  const [[bag], plan, lastPack] = await Promise.all([
+  const [[bag], items, bins, lastPack] = await Promise.all([
     loadBagHeaders(db, { ids: [bagId] }, CLAIM_LAPSE_SECONDS),
-    planPicks(db, [bagId]),
+    loadBagItems(db, [bagId]),
+    suggestedBins(db, bagId),
     lastPackEvent(db, bagId),
   ])
   if (!bag) throw refuse(404, 'unknown', 'There is no such bag')
-  const bins = new Map<number, string[]>()
-  for (const r of plan.rows) if (r.binCode && !bins.get(r.itemId)?.includes(r.binCode)) bins.set(r.itemId, [...(bins.get(r.itemId) ?? []), r.binCode])
-  return { bag, pouches: pouchesOf(plan.items, bins), totals: bagTotals(plan.items), lastPack, claimLapseSeconds: CLAIM_LAPSE_SECONDS }
+  return { bag, pouches: pouchesOf(items, bins), totals: bagTotals(items), lastPack, claimLapseSeconds: CLAIM_LAPSE_SECONDS }
+}
+
+/**
+ * Bins to suggest for each open line, in one query: bins holding the part the order reserved for the
+ * line first, then the line's own part, oldest lot first. (The pick list does the full allocation.)
+ */
+async function suggestedBins(db: Db, bagId: number) {
+  const [rows] = await db.execute(sql`select x.item_id as itemId, b.code as code
+    from (
+      select i.id as item_id, i.part_id as part_id, 0 as reserved, 1 as own from bag_items i where i.bag_id = ${bagId} and i.qty_packed < i.qty_needed
+      union all
+      select i.id, r.part_id, 1, r.part_id = i.part_id from bag_items i join bags g on g.id = i.bag_id
+        join reservations r on r.order_id = g.order_id and r.line_id = i.line_id and r.state in ('held', 'confirmed', 'consumed')
+      where i.bag_id = ${bagId} and i.qty_packed < i.qty_needed
+    ) x join lots l on l.part_id = x.part_id and l.on_hand > 0 join bins b on b.id = l.bin_id
+    group by x.item_id, b.code
+    order by x.item_id, max(x.reserved) desc, max(x.own) desc, min(l.received_on), min(l.id)`)
+  const out = new Map<number, string[]>()
+  for (const r of rows as unknown as { itemId: number, code: string }[]) out.set(Number(r.itemId), [...(out.get(Number(r.itemId)) ?? []), r.code])
+  return out
 }
 
 async function lastPackEvent(db: Db, bagId: number) {
@@ -345,6 +364,19 @@ export async function bagsOfDay(db: Db, buildDayId: number) {
   return headers.map(h => ({ ...h, needed: Number(byBag.get(h.id)?.needed ?? 0), packed: Number(byBag.get(h.id)?.packed ?? 0), lines: Number(byBag.get(h.id)?.lines ?? 0) }))
 }
 
+export interface ProgressDay {
+  id: number
+  name: string
+  date: string
+  notStarted: number
+  inProgress: number
+  sealed: number
+  collected: number
+  total: number
+  paidWithoutBag: number
+  packing: { code: string, seat: number | null, builderName: string, kitName: string, packer: string | null, packed: number, needed: number }[]
+}
+
 /** Per build day: bags not started, in progress and sealed, with the bags being packed now. */
 export async function packingProgress(db: Db) {
   const days = await db.select({ id: schema.buildDays.id, name: schema.buildDays.name, date: schema.buildDays.date }).from(schema.buildDays).orderBy(asc(schema.buildDays.date), asc(schema.buildDays.id))
@@ -352,7 +384,7 @@ export async function packingProgress(db: Db) {
   const paid = await db.select({ buildDayId: schema.orders.buildDayId, n: sql<number>`count(*)` }).from(schema.orders)
     .leftJoin(schema.bags, eq(schema.bags.orderId, schema.orders.id))
     .where(and(eq(schema.orders.state, 'paid'), isNull(schema.bags.id))).groupBy(schema.orders.buildDayId)
-  const out = []
+  const out: ProgressDay[] = []
   for (const d of days) {
     const of = (s: string) => Number(counts.find(c => c.buildDayId === d.id && c.state === s)?.n ?? 0)
     const total = counts.filter(c => c.buildDayId === d.id).reduce((n, c) => n + Number(c.n), 0)
@@ -436,4 +468,9 @@ export function labelRefused(event: H3Event, reason: string) {
   return `<!doctype html><html lang="en"><meta name="viewport" content="width=device-width, initial-scale=1"><title>Label refused · Kitwright</title>
 <body style="font-family: system-ui, sans-serif; padding: 1.5rem; background: #f7f5f0; color: #0f1e28"><h1 style="color: #921f18">This label was refused</h1>
 <p>${text[0]!.toUpperCase()}${text.slice(1)}.</p><p>Scan it again, or type the code printed under the QR code at the <a href="/pack">packing station</a>.</p></body></html>`
+}
+
+/** The build day to show first: the one with most bags still to pack, else the first. */
+export function defaultDay<D extends Pick<ProgressDay, 'notStarted' | 'inProgress'>>(days: D[]): D | undefined {
+  return [...days].sort((a, b) => (b.notStarted + b.inProgress) - (a.notStarted + a.inProgress))[0]
 }

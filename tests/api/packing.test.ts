@@ -98,6 +98,8 @@ describe('bags', () => {
     expect((await org.post('/api/bags/bulk', { buildDayId: day })).body.created).toHaveLength(0)
     expect((await pip.post('/api/bags/bulk', { buildDayId: day })).status).toBe(403)
     const list = await pip.get(`/api/bags?buildDayId=${day}`)
+    expect(list.status).toBe(200)
+    expect((await pip.get('/api/bags')).status).toBe(200)
     expect(list.body.bags.map((b: any) => b.kitName).sort()).toEqual(['Linnet 20 transmitter', 'Tern antenna tuner'])
     expect(list.body.bags.find((b: any) => b.kitName.startsWith('Linnet')).options).toEqual(['Dummy load and indicator'])
   })
