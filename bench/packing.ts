@@ -1,0 +1,149 @@
+// Packing bench: 20 packers scan at once for 30 seconds against a stack of our own (fresh database,
+// built server on loopback), then stock is checked against the ledger; and the time to render the
+// labels of 60 bags. Run: npx tsx bench/packing.ts  (KW_DB_ADMIN_URL and KW_BUILD_DIR as for the tests)
+import { eq, sql } from 'drizzle-orm'
+import * as schema from '../server/db/schema'
+import { bagLabels } from '../server/utils/bags'
+import { labelUrl } from '../server/utils/codes'
+import { renderLabels, SHEET_LAYOUTS } from '../server/utils/labels'
+import { makeBuildDay, makePaidBag, openDb, stockLedgerMismatches, type PackDb } from '../tests/api/packing-data'
+import { Client } from '../tests/support/client'
+import { startStack } from '../tests/support/stack'
+
+const PACKERS = Number(process.env.KW_BENCH_PACKERS || 20)
+const SECONDS = Number(process.env.KW_BENCH_SECONDS || 30)
+const BAGS = Number(process.env.KW_BENCH_BAGS || 400)
+const KITS = [{ slug: 'wren-40', option: '40 m (7.030 MHz)' }, { slug: 'linnet-20' }, { slug: 'tern-atu' }, { slug: 'wren-40', option: '80 m (3.560 MHz)' }]
+
+function percentile(sorted: number[], p: number) {
+  if (!sorted.length) return NaN
+  return sorted[Math.min(sorted.length - 1, Math.ceil((p / 100) * sorted.length) - 1)]!
+}
+
+/** Enough stock for every bag: one more lot of each part, in the part's own bin, received through the ledger. */
+async function topUpStock(db: PackDb) {
+  const lots = await db.select().from(schema.lots)
+  const [organiser] = await db.select().from(schema.users).where(eq(schema.users.email, 'olwen.hartley@club.invalid'))
+  const seen = new Set<number>()
+  for (const l of lots) {
+    if (seen.has(l.partId)) continue
+    seen.add(l.partId)
+    const [lot] = await db.insert(schema.lots).values({ partId: l.partId, binId: l.binId, qtyReceived: 20_000, onHand: 20_000, unitCostMinor: l.unitCostMinor, receivedOn: '2026-12-01', note: 'bench stock' }).$returningId()
+    await db.insert(schema.ledger).values({ lotId: lot!.id, partId: l.partId, binId: l.binId, kind: 'receive', qty: 20_000, userId: organiser!.id, reason: 'bench stock' })
+  }
+}
+
+/** Packer accounts for the bench (they share the demo password hash). */
+async function makePackers(db: PackDb, base: string) {
+  const [pip] = await db.select().from(schema.users).where(eq(schema.users.email, 'pip.achterberg@club.invalid'))
+  const clients: Client[] = []
+  for (let i = 0; i < PACKERS; i++) {
+    const email = `bench.packer${i + 1}@club.invalid`
+    const [u] = await db.insert(schema.users).values({ email, name: `Bench Packer ${i + 1}`, passwordHash: pip!.passwordHash }).$returningId()
+    await db.insert(schema.userRoles).values({ userId: u!.id, role: 'packer' })
+    clients.push(await new Client(base).login(email))
+  }
+  return clients
+}
+
+interface Stats { latencies: number[], errors: Map<string, number>, bagsSealed: number, requests: number }
+
+async function packer(c: Client, base: string, secret: string, dayId: number, queue: { id: number, code: string }[], until: number, stats: Stats) {
+  async function timed(body: Record<string, unknown>) {
+    const t = performance.now()
+    const res = await c.post('/api/pack/scan', { buildDayId: dayId, ...body })
+    stats.latencies.push(performance.now() - t)
+    stats.requests++
+    if (res.status !== 200) {
+      const key = `${res.status} ${res.body?.data?.reason ?? res.body?.message ?? ''}`
+      stats.errors.set(key, (stats.errors.get(key) ?? 0) + 1)
+    }
+    return res
+  }
+  while (Date.now() < until) {
+    const bag = queue.shift()
+    if (!bag) return
+    let res = await timed({ text: labelUrl(base, 'bag', bag.code, secret) })
+    if (res.status !== 200) continue
+    let view = res.body.bag
+    while (Date.now() < until) {
+      const open = view.pouches.flatMap((p: any) => p.items).find((i: any) => i.qtyPacked < i.qtyNeeded)
+      if (!open) break
+      const text = labelUrl(base, 'bin', open.bins[0], secret)
+      res = await timed({ text, bagId: bag.id, itemId: open.itemId })
+      if (res.status === 200 && res.body.outcome === 'count') res = await timed({ text, bagId: bag.id, itemId: open.itemId, qty: res.body.qty })
+      if (res.status !== 200 || res.body.outcome !== 'packed') break
+      view = res.body.bag
+      if (res.body.sealed) stats.bagsSealed++
+    }
+  }
+}
+
+async function labelTiming(db: PackDb, base: string, secret: string, dayId: number, c: Client) {
+  const bags = (await db.select({ id: schema.bags.id, code: schema.bags.code }).from(schema.bags).where(eq(schema.bags.buildDayId, dayId)).limit(60))
+  const layout = SHEET_LAYOUTS.find(l => l.id === 'a4-3x8')!
+  await renderLabels(await bagLabels(db, bags.slice(0, 2).map(b => b.id), 'both', base, secret), layout) // warm the fonts
+  const out: Record<string, number> = {}
+  for (const kind of ['bags', 'both'] as const) {
+    const t = performance.now()
+    const labels = await bagLabels(db, bags.map(b => b.id), kind, base, secret)
+    const t1 = performance.now()
+    const pdf = await renderLabels(labels, layout)
+    out[`${kind} in-process (${labels.length} labels, ${(pdf.length / 1024).toFixed(0)} KiB; data ${(t1 - t).toFixed(0)} ms + PDF ${(performance.now() - t1).toFixed(0)} ms)`] = performance.now() - t
+  }
+  const t = performance.now()
+  const res = await fetch(`${base}/api/labels/bags?codes=${bags.map(b => b.code).join(',')}&kind=both&layout=a4-3x8`, { headers: { cookie: c.cookie } })
+  await res.arrayBuffer()
+  out[`both over HTTP (status ${res.status})`] = performance.now() - t
+  return { count: bags.length, out }
+}
+
+async function main() {
+  console.log(`Packing bench: ${PACKERS} packers for ${SECONDS} s; starting a stack of its own…`)
+  const stack = await startStack('bench')
+  const { conn, db } = await openDb(stack.dbUrl)
+  try {
+    const dayId = await makeBuildDay(db, 'Bench build day')
+    await topUpStock(db)
+    const t0 = performance.now()
+    const queue: { id: number, code: string }[] = []
+    for (let i = 0; i < BAGS; i++) {
+      const bag = await makePaidBag(db, { buildDayId: dayId, ...KITS[i % KITS.length]!, seat: i + 1 })
+      queue.push({ id: bag.id, code: bag.code })
+    }
+    console.log(`${BAGS} paid orders with bags made in ${((performance.now() - t0) / 1000).toFixed(1)} s`)
+    const clients = await makePackers(db, stack.baseUrl)
+
+    const stats: Stats = { latencies: [], errors: new Map(), bagsSealed: 0, requests: 0 }
+    const until = Date.now() + SECONDS * 1000
+    const started = performance.now()
+    await Promise.all(clients.map(c => packer(c, stack.baseUrl, stack.labelSecret, dayId, queue, until, stats)))
+    const elapsed = (performance.now() - started) / 1000
+    const sorted = [...stats.latencies].sort((a, b) => a - b)
+    const errors = [...stats.errors.values()].reduce((a, b) => a + b, 0)
+    console.log(`\nscan API, ${PACKERS} concurrent packers, ${elapsed.toFixed(1)} s on loopback:`)
+    console.log(`  requests ${stats.requests} (${(stats.requests / elapsed).toFixed(0)}/s), bags sealed ${stats.bagsSealed}`)
+    console.log(`  latency median ${percentile(sorted, 50).toFixed(1)} ms, p95 ${percentile(sorted, 95).toFixed(1)} ms, p99 ${percentile(sorted, 99).toFixed(1)} ms, max ${sorted.at(-1)?.toFixed(1)} ms  (target p95 < 30 ms)`)
+    console.log(`  errors ${errors}${errors ? `: ${JSON.stringify(Object.fromEntries(stats.errors))}` : ''}`)
+
+    // Let the last requests' transactions settle, then compare every lot with its ledger.
+    const mismatches = await stockLedgerMismatches(db)
+    const [negative] = await db.select({ n: sql<number>`count(*)` }).from(schema.lots).where(sql`${schema.lots.onHand} < 0`)
+    const [picked] = await db.execute(sql`select coalesce(-sum(g.qty), 0) as picked, (select coalesce(sum(i.qty_packed), 0) from bag_items i join bags b on b.id = i.bag_id where b.state = 'sealed' and b.build_day_id = ${dayId}) as packed
+      from ledger g join bags b on b.id = g.bag_id where g.kind = 'pick' and b.build_day_id = ${dayId}`) as unknown as [{ picked: number, packed: number }[]]
+    console.log(`  stock == ledger: ${mismatches.length === 0 ? 'yes' : `NO, ${mismatches.length} lots differ`}; lots below zero: ${Number(negative!.n)}; picked ${Number(picked[0]!.picked)} = packed into sealed bags ${Number(picked[0]!.packed)}: ${Number(picked[0]!.picked) === Number(picked[0]!.packed) ? 'yes' : 'NO'}`)
+
+    const labels = await labelTiming(db, stack.baseUrl, stack.labelSecret, dayId, clients[0]!)
+    console.log(`\nlabels for ${labels.count} bags (target < 1500 ms):`)
+    for (const [k, ms] of Object.entries(labels.out)) console.log(`  ${k}: ${ms.toFixed(0)} ms`)
+  }
+  finally {
+    await conn.end()
+    await stack.stop()
+  }
+}
+
+main().then(() => process.exit(0), (err) => {
+  console.error(err)
+  process.exit(1)
+})
