@@ -338,6 +338,12 @@ export function displayValue(part: Pick<PartRow, 'value' | 'unit' | 'valueText'>
 export function mergePartChanges(stored: PartRow, changes: Record<string, unknown>): PartValues {
   const keepValue = !('valueText' in changes) && (changes.kind === undefined || changes.kind === stored.kind)
   const input = { ...partAsInput(stored), ...changes, ...(keepValue ? { valueText: null } : {}) }
+  // A name made from the value follows the value, unless a new name is given.
+  const wasAuto = stored.value != null && !!stored.unit && stored.name === defaultName(stored.kind, formatValue(stored.value, stored.unit), stored.dielectric)
+  if (wasAuto && (changes.name == null || changes.name === '' || changes.name === stored.name)) {
+    const dielectric = typeof input.dielectric === 'string' ? input.dielectric.trim() || null : null
+    input.name = keepValue ? defaultName(input.kind as string, formatValue(stored.value!, stored.unit!), dielectric) : null
+  }
   const checked = partBody.safeParse(input)
   if (!checked.success) badRequest(checked.error.issues)
   const values = checked.data

@@ -157,7 +157,10 @@ describe('updating parts', () => {
     const res = await org.patch(`/api/parts/${made.r100k}`, { valueText: '2M2' })
     expect(res.status).toBe(200)
     const got = (await org.get(`/api/parts/${made.r100k}`)).body.part
-    expect(got).toMatchObject({ value: 2.2e6, valueText: '2M2', powerW: 0.25, name: 'Resistor 100 kΩ' })
+    // A name made from the value follows it (IEC 60062: 2M2 = 2.2 MΩ); a name someone chose stays.
+    expect(got).toMatchObject({ value: 2.2e6, valueText: '2M2', powerW: 0.25, name: 'Resistor 2.2 MΩ' })
+    expect((await org.patch(`/api/parts/${made.l10u}`, { valueText: '22u' })).status).toBe(200)
+    expect((await org.get(`/api/parts/${made.l10u}`)).body.part).toMatchObject({ name: `Choke ${tag}`, value: expect.closeTo(22e-6, 18) })
   })
 
   it('answers 400 by field for a value that does not parse', async () => {
