@@ -9,8 +9,9 @@ import * as schema from '../db/schema'
 import { effectiveBom, type BomLine } from '../../shared/utils/bom'
 import { reconcile, type ReconcileLine, type ReconcileResult, type ReconcileStock, type ReconcileSwap } from '../../shared/utils/reconcile'
 import { buyList, sparesAllowance, type BuyList, type Offer, type SpareRule } from '../../shared/utils/buylist'
-import { swapPairs, type SwapPair } from '../../shared/utils/swaps'
+import type { SwapPair } from '../../shared/utils/swaps'
 import { neutraliseCell, toCsv } from '../../shared/utils/spreadsheet'
+import { loadSwapPairs } from './catalogue'
 import { loadRevisionBom } from './revision-bom'
 import { availableByPart } from './stock'
 
@@ -130,24 +131,9 @@ export const reconcileQuery = z.object({
 // ---------------------------------------------------------------------------------------
 // Loading from the database
 
-/** Allowed stand-in pairs with reason and warning. One place to change when the catalogue's loader is used. */
+/** Allowed stand-in pairs with reason and warning (groups and parametric rules), from the catalogue. */
 export async function loadStandInPairs(db: Reader): Promise<SwapPair[]> {
-  const [parts, groups, members, settings] = await Promise.all([
-    db.select().from(schema.parts).orderBy(asc(schema.parts.id)),
-    db.select().from(schema.swapGroups).orderBy(asc(schema.swapGroups.id)),
-    db.select().from(schema.swapGroupMembers),
-    db.select().from(schema.swapSettings),
-  ])
-  const enabled = { resistor: true, capacitor: true, inductor: true }
-  for (const s of settings) if (s.kind in enabled) enabled[s.kind as keyof typeof enabled] = s.enabled
-  return swapPairs(
-    parts.map(p => ({
-      id: String(p.id), kind: p.kind, value: p.value, tolerancePct: p.tolerancePct, powerW: p.powerW, voltageV: p.voltageV,
-      currentA: p.currentA, dielectric: p.dielectric, mounting: p.mounting, polarised: p.polarised, package: p.package,
-    })),
-    groups.map(g => ({ id: String(g.id), name: g.name, warning: g.warning, members: members.filter(m => m.groupId === g.id).map(m => ({ partId: String(m.partId), direction: m.direction })) })),
-    enabled,
-  )
+  return loadSwapPairs(db)
 }
 
 function refuse(message: string, field?: string): never {
@@ -183,7 +169,7 @@ export async function loadReconcileData(db: Reader, revisionId: number, mix: Mix
   const pairs = (await loadStandInPairs(db)).filter(p => ownParts.includes(p.from))
   const partIds = [...new Set([...ownParts, ...pairs.map(p => p.to)])].map(Number)
   const [stock, parts] = await Promise.all([
-    availableByPart(db as never, partIds),
+    availableByPart(db, partIds),
     partIds.length ? db.select({ id: schema.parts.id, name: schema.parts.name, kind: schema.parts.kind, valueText: schema.parts.valueText }).from(schema.parts).where(inArray(schema.parts.id, partIds)) : [],
   ])
   return { revision: rev, choices, lineById, pairs, stock, parts: new Map(parts.map(p => [String(p.id), p])) }
