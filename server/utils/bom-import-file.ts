@@ -230,7 +230,12 @@ function kindOf(designators: string[], valueText: string): ReadKind {
   return PREFIX_KIND[prefix] ?? 'other'
 }
 
+// Cheap shape checks first: most words in a BOM are not values, and a thrown parse error is slow.
+const MAY_BE_VALUE = /^(?:[\d.]|[RrpPnNuUmkKMGT]\d)/
+const UNIT_WORD = /^(?:[pnuµmkKMG]?(?:Ω|ohms?|F|H|Hz|V|W|A)|[kKM]|%)$/i
+
 function tryParse(t: string, kind?: string) {
+  if (!MAY_BE_VALUE.test(t)) return null
   try { return parseValue(t, kind) }
   catch { return null }
 }
@@ -308,8 +313,8 @@ export function readRowValue(designators: string[], valueText: string): ValueRea
   }
   const acc: Acc = { read: { kind, words: [], text: '' }, mainUnit: KIND_UNIT[kind] }
   for (let i = 0; i < tokens.length; i++) {
-    const pair = i + 1 < tokens.length && /^[a-zA-ZΩµ%]/.test(tokens[i + 1]!) ? `${tokens[i]}${tokens[i + 1]}` : null
-    if (pair && /^[\d.]/.test(tokens[i]!) && take(acc, pair)) { i++; continue }
+    const pair = i + 1 < tokens.length && UNIT_WORD.test(tokens[i + 1]!) && /^[\d.]/.test(tokens[i]!) ? `${tokens[i]}${tokens[i + 1]}` : null
+    if (pair && take(acc, pair)) { i++; continue }
     if (!take(acc, tokens[i]!)) acc.read.words.push(tokens[i]!)
   }
   const r = acc.read

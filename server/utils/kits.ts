@@ -704,13 +704,17 @@ function resolveRow(row: PreviewRow, decision: RowDecision | undefined): Resolve
 }
 
 async function createParts(tx: AnyTx, drafts: NewPartDraft[]): Promise<Map<string, number>> {
+  const unique = new Map(drafts.map(d => [JSON.stringify(d), d]))
   const ids = new Map<string, number>()
-  for (const d of drafts) {
-    const key = JSON.stringify(d)
-    if (ids.has(key)) continue
-    const [row] = await tx.insert(schema.parts).values(d).$returningId()
-    ids.set(key, row!.id)
-  }
+  if (unique.size === 0) return ids
+  // One statement: MariaDB hands out consecutive ids to a multi-row insert, which $returningId relies on.
+  const rows = await tx.insert(schema.parts).values([...unique.values()]).$returningId()
+  const made = await tx.select({ id: schema.parts.id, name: schema.parts.name }).from(schema.parts).where(inArray(schema.parts.id, rows.map(r => r.id)))
+  const nameOf = new Map(made.map(p => [p.id, p.name]))
+  ;[...unique.entries()].forEach(([key, draft], i) => {
+    if (nameOf.get(rows[i]!.id) !== draft.name) throw new Error('New parts did not get consecutive ids (innodb_autoinc_lock_mode must be 0 or 1)')
+    ids.set(key, rows[i]!.id)
+  })
   return ids
 }
 
