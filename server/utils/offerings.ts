@@ -48,15 +48,14 @@ export type OfferingView = Awaited<ReturnType<typeof offeringViews>>[number]
 export async function availabilityOf(db: Db, day: typeof tables.buildDays.$inferSelect, offerings?: OfferingView[]) {
   const views = offerings ?? await offeringViews(db, [day.id])
   const seatsLeft = Math.max(0, day.seats - await seatsTaken(db, day.id))
-  const swaps = await loadSwapPairs(db)
-  return {
+    return {
     seats: day.seats,
     seatsLeft,
     offerings: await Promise.all(views.map(async (o) => {
       const choices = await Promise.all(optionChoices(o.groups, o.allowedOptionIds).map(async (optionIds) => {
         const names = optionIds.map(id => o.groups.flatMap(g => g.options).find(x => x.id === String(id))?.name ?? String(id))
         try {
-          const kits = await kitsAvailable(db, await kitDemand(db, o.revisionId, optionIds, swaps))
+          const kits = await kitsAvailable(db, await kitDemand(db, o.revisionId, optionIds))
           return { optionIds, names, kits, sellable: Math.min(kits, seatsLeft), problem: null as string | null }
         }
         catch (err) {

@@ -3,6 +3,7 @@
 import type Stripe from 'stripe'
 import { createBagForOrder } from './bags'
 import type { KitDemand } from './reservations'
+import type { ReconcileLinePart } from '../../shared/utils/reconcile'
 import type { PreparedWaitlist } from './waitlist'
 
 type Mail = Parameters<typeof sendMail>[0]
@@ -88,6 +89,11 @@ export async function liveOrderOf(tx: Pick<Tx, 'select'>, buildDayId: number, us
   return row
 }
 
+const seatsSoldOut = (name: string) => `Every seat at ${name} is taken. Join the waiting list and you will be e-mailed if a place comes free.`
+async function stockSoldOut(db: Pick<Tx, 'select'>, shortfall: ReconcileLinePart[]) {
+  return `This kit is sold out: not enough ${await describeShortfall(db, shortfall)}. Join the waiting list and you will be e-mailed if one comes free.`
+}
+
 function soldOut(message: string, reason: 'seats' | 'stock') {
   return createError({ statusCode: 409, statusMessage: 'Sold out', message, data: { soldOut: reason, canWaitlist: true } })
 }
@@ -104,6 +110,10 @@ export async function startCheckout(user: { id: number, email: string }, input: 
   const [member] = await db.select({ member: tables.users.member }).from(tables.users).where(eq(tables.users.id, user.id))
   const isMember = member?.member ?? false
   const holdS = Math.min(Math.max(day.holdMinutes * 60, MIN_SESSION_S), MAX_SESSION_S)
+  // A quick look without locks turns most requests away once a day has sold out; the locked check below decides.
+  if (await seatsTaken(db, day.id) >= day.seats) throw soldOut(seatsSoldOut(day.name), 'seats')
+  const glance = await allocateKit(db, demand)
+  if (!glance.ok) throw soldOut(await stockSoldOut(db, glance.shortfall), 'stock')
 
   const orderId = await sellingTx(db, async (tx) => {
     const locked = await lockBuildDay(tx, day.id)
@@ -115,10 +125,10 @@ export async function startCheckout(user: { id: number, email: string }, input: 
         message: mine.state === 'paid' ? 'You already have a place at this build day' : 'You already have a checkout in progress for this build day: continue or cancel it under "Your orders"',
       })
     }
-    if (await seatsTaken(tx, day.id, now) >= locked.seats) throw soldOut(`Every seat at ${day.name} is taken. Join the waiting list and you will be e-mailed if a place comes free.`, 'seats')
+    if (await seatsTaken(tx, day.id, now) >= locked.seats) throw soldOut(seatsSoldOut(day.name), 'seats')
     await lockPartStock(tx, demand.partIds)
     const alloc = await allocateKit(tx, demand)
-    if (!alloc.ok) throw soldOut(`This kit is sold out: not enough ${await describeShortfall(tx, alloc.shortfall)}. Join the waiting list and you will be e-mailed if one comes free.`, 'stock')
+    if (!alloc.ok) throw soldOut(await stockSoldOut(tx, alloc.shortfall), 'stock')
     const [row] = await tx.insert(tables.orders).values({
       buildDayId: day.id, offeringId: offering.id, userId: user.id, optionIds: input.optionIds, state: 'pending',
       amountMinor: isMember ? offering.memberPriceMinor : offering.nonMemberPriceMinor, currency: day.currency, memberPrice: isMember,

@@ -7,10 +7,11 @@ import { createError } from 'h3'
 import * as schema from '../db/schema'
 import type { Db, Tx } from './db'
 import { availableByPart } from './stock'
-import { loadSwapPairs } from './catalogue'
+import { loadSwapGroups, loadSwapSettings, toSwapPart, valueNear } from './catalogue'
 import { loadEffectiveBom } from './revision-bom'
 import type { OptionGroup } from '../../shared/utils/bom'
 import { reconcile, type ReconcileLine, type ReconcileLinePart, type ReconcileSwap } from '../../shared/utils/reconcile'
+import { swapPairs } from '../../shared/utils/swaps'
 
 export type OrderState = (typeof schema.ORDER_STATES)[number]
 
@@ -59,9 +60,31 @@ export async function kitDemand(db: Db, revisionId: number, optionIds: number[],
   }
   const lines: ReconcileLine[] = bom.effective.map(l => ({ id: l.id, partId: l.partId!, qtyPerKit: l.qty, allowSwaps: !l.noStandIns }))
   const own = new Set(lines.map(l => l.partId))
-  const swaps = (swapRules ?? await loadSwapPairs(db)).filter(s => own.has(s.from)).map(s => ({ from: s.from, to: s.to }))
+  const swaps = (swapRules ?? await swapRulesFrom(db, [...own].map(Number))).filter(s => own.has(s.from)).map(s => ({ from: s.from, to: s.to }))
   const partIds = [...new Set([...own, ...swaps.map(s => s.to)])].map(Number).sort((a, b) => a - b)
   return { revisionId, optionIds, lines, swaps, partIds }
+}
+
+/**
+ * The swap rules whose `from` is one of these parts: the same pairs as the whole catalogue's
+ * swapPairs, found from only the parts that can be involved (the parts themselves, their group
+ * partners, and parts of the same kind and value for the parametric rules).
+ */
+export async function swapRulesFrom(db: Db, partIds: number[]): Promise<ReconcileSwap[]> {
+  if (!partIds.length) return []
+  const P = schema.parts
+  const [own, groups, settings] = await Promise.all([
+    db.select().from(P).where(inArray(P.id, partIds)),
+    loadSwapGroups(db),
+    loadSwapSettings(db),
+  ])
+  const ids = new Set(partIds.map(String))
+  const mine = groups.filter(g => g.members.some(m => ids.has(m.partId)))
+  const partners = [...new Set(mine.flatMap(g => g.members.map(m => Number(m.partId))))]
+  const near = own.filter(p => p.value != null).map(p => and(eq(P.kind, p.kind), valueNear(p.value!)))
+  const where = or(inArray(P.id, partIds), partners.length ? inArray(P.id, partners) : undefined, ...near)
+  const rows = await db.select().from(P).where(where)
+  return swapPairs(rows.map(toSwapPart), mine, settings).filter(s => ids.has(s.from)).map(s => ({ from: s.from, to: s.to }))
 }
 
 /** Every valid choice of options within the allowed ones ('one' groups pick one, 'zero-or-one' may pick none). */
@@ -106,7 +129,7 @@ export async function seatsTaken(tx: Pick<Tx, 'select'>, buildDayId: number, now
  * One kit from the stock available now (caller holds the locks): the allocation per line and part,
  * or the shortfall when the stock cannot make it.
  */
-export async function allocateKit(tx: Tx, demand: KitDemand): Promise<{ ok: true, allocation: ReconcileLinePart[] } | { ok: false, shortfall: ReconcileLinePart[] }> {
+export async function allocateKit(tx: Pick<Tx, 'select'>, demand: KitDemand): Promise<{ ok: true, allocation: ReconcileLinePart[] } | { ok: false, shortfall: ReconcileLinePart[] }> {
   const available = await availableByPart(tx, demand.partIds)
   const stock = demand.partIds.map(id => ({ partId: String(id), available: available.get(id)?.available ?? 0 }))
   const result = reconcile({ lines: demand.lines, stock, swaps: demand.swaps, kits: 1 })

@@ -20,10 +20,9 @@ export async function prepareWaitlist(db: Db, buildDayId: number): Promise<Prepa
     .where(and(eq(W.buildDayId, buildDayId), eq(W.state, 'waiting'))).orderBy(W.createdAt, W.id).limit(50)
   const out: PreparedWaitlist = new Map()
   if (!entries.length) return out
-  const swaps = await loadSwapPairs(db)
-  for (const e of entries) {
+    for (const e of entries) {
     try {
-      out.set(e.id, await kitDemand(db, e.revisionId, e.optionIds ?? [], swaps))
+      out.set(e.id, await kitDemand(db, e.revisionId, e.optionIds ?? []))
     }
     catch {
       // A choice that no longer makes a kit stays waiting; the organiser sees it on the list.
