@@ -120,11 +120,26 @@ export const usePackingStore = defineStore('packing', () => {
         ? say('info', `Put ${res.qty} × ${res.partName} from ${res.binCode} in`, 'ask', `${res.item.designators}: confirm the count`)
         : say('warn', `${res.partName} stands in for ${res.item.partName}`, 'ask', res.standIn?.warning ?? undefined)
     }
-    setBag(res.bag)
+    if (res.bag) setBag(res.bag)
+    else applyPack(res)
     lit.value = res.packed.itemId
     if (res.sealed) return say('ok', `Bag ${res.bag.bag.code} is complete and sealed`, 'sealed', 'Close it and scan the next bag.')
     if (res.sealError) return say('bad', `Packed, but the bag could not be sealed: ${res.sealError}`, 'bad')
     say('ok', `${res.packed.qty} × ${res.packed.partName} packed`, 'ok', `${res.packed.designators} from ${res.packed.binCode}${res.packed.standIn ? ' (stand-in)' : ''}`)
+  }
+
+  /** Patches the current bag with one pack's change (the server sends the whole bag only when it seals). */
+  function applyPack(res: { item: Partial<PackLine> & { itemId: number, qtyPacked: number }, totals: PackBag['totals'], lastPack: PackBag['lastPack'] }) {
+    const view = current.value
+    if (!view) return
+    for (const p of view.pouches) {
+      const line = p.items.find(i => i.itemId === res.item.itemId)
+      if (!line) continue
+      p.packed += res.item.qtyPacked - line.qtyPacked
+      Object.assign(line, res.item)
+    }
+    view.totals = res.totals
+    view.lastPack = res.lastPack
   }
 
   async function confirm(qty: number) {

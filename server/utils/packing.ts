@@ -144,9 +144,14 @@ async function claim(tx: Tx, bagId: number, userId: number) {
 
 /** A packer packs one bag at a time: claiming one lets go of the others (back to "not started" when nothing is in them). */
 async function releaseOthers(tx: Tx, keepBagId: number, userId: number) {
+  // Find them with a plain read first: an UPDATE searching by the unindexed claim would lock every bag row.
+  const B = schema.bags
+  const mine = await tx.select({ id: B.id }).from(B).where(and(eq(B.claimedBy, userId), inArray(B.state, ['open', 'packing'])))
+  const ids = mine.map(b => b.id).filter(id => id !== keepBagId)
+  if (!ids.length) return
   await tx.execute(sql`update bags b set b.claimed_by = null, b.claimed_at = null,
     b.state = if(exists(select 1 from bag_items i where i.bag_id = b.id and i.qty_packed > 0), 'packing', 'open')
-    where b.claimed_by = ${userId} and b.id <> ${keepBagId} and b.state in ('open', 'packing')`)
+    where b.id in (${sql.join(ids.map(id => sql`${id}`), sql`, `)}) and b.claimed_by = ${userId}`)
 }
 
 /** Lets go of a bag (the packer's "done for now"). */
@@ -191,7 +196,7 @@ async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
     throw refuse(409, 'over-count', `${pick.item.designators} needs ${remaining} more; ${qty} is too many. Put back ${qty - remaining}.`, { itemId: pick.item.itemId, remaining })
 
   const lot = chooseLot(lots.filter(l => l.partId === pick.partId), pending, qty, code, pick.partName)
-  await db.transaction(async (tx) => {
+  const done = await db.transaction(async (tx) => {
     await claim(tx, h.id, packer.id)
     const I = schema.bagItems
     const [res] = await tx.update(I).set({
@@ -200,29 +205,41 @@ async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
     }).where(and(eq(I.id, pick.item.itemId), eq(I.bagId, h.id), sql`${I.qtyPacked} + ${qty} <= ${I.qtyNeeded}`))
     if (res.affectedRows !== 1)
       throw refuse(409, 'over-count', `${pick.item.designators} was packed meanwhile: ${qty} more would be too many`, { itemId: pick.item.itemId })
-    await tx.insert(schema.bagEvents).values({ bagId: h.id, bagItemId: pick.item.itemId, kind: 'pack', lotId: lot.id, binId: bin.id, partId: pick.partId, qty, userId: packer.id, note: pick.standIn ? 'stand-in' : null })
+    const [ev] = await tx.insert(schema.bagEvents).values({ bagId: h.id, bagItemId: pick.item.itemId, kind: 'pack', lotId: lot.id, binId: bin.id, partId: pick.partId, qty, userId: packer.id, note: pick.standIn ? 'stand-in' : null }).$returningId()
+    const [now] = await tx.select({ qtyPacked: I.qtyPacked }).from(I).where(eq(I.id, pick.item.itemId))
+    return { eventId: ev!.id, qtyPacked: now!.qtyPacked }
   })
-  return packed(db, h.id, packer, { itemId: pick.item.itemId, designators: pick.item.designators, qty, binCode: code, partName: pick.partName, standIn: pick.standIn })
+  const item = {
+    itemId: pick.item.itemId, qtyPacked: done.qtyPacked,
+    standInPartId: pick.standIn ? pick.partId : pick.item.standInPartId,
+    standInName: pick.standIn ? pick.partName : pick.item.standInName,
+    standInWarning: pick.standIn ? (pick.standIn.warning?.slice(0, 255) ?? null) : pick.item.standInWarning,
+  }
+  const totals = bagTotals(items.map(i => (i.itemId === item.itemId ? { ...i, qtyPacked: item.qtyPacked } : i)))
+  const lastPack = { id: done.eventId, qty, itemId: item.itemId, binCode: code, partName: pick.partName }
+  return packed(db, h.id, packer, { itemId: pick.item.itemId, designators: pick.item.designators, qty, binCode: code, partName: pick.partName, standIn: pick.standIn }, { item, totals, lastPack })
 }
 
 function countsSingly(item: BagItemRow) {
   return COUNTED_SINGLY.includes(item.kind)
 }
 
-/** After a pack: the updated bag, sealed at once when every line is done. */
-async function packed(db: Db, bagId: number, packer: Packer, what: Record<string, unknown>) {
-  let bag = await bagView(db, bagId)
-  let sealError: string | null = null
-  if (bag.totals.lines > 0 && bag.totals.packed === bag.totals.needed) {
-    try {
-      await sealBag(db, bagId, packer)
-      bag = await bagView(db, bagId)
-    }
-    catch (err) {
-      sealError = (err as Error).message
-    }
+/**
+ * After a pack: what changed (the line, the totals, the scan undo would take back) for the station to
+ * patch its view; when that was the last line, the bag is sealed at once and the whole bag comes back.
+ */
+async function packed(db: Db, bagId: number, packer: Packer, what: Record<string, unknown>, change: { item: Record<string, unknown> & { itemId: number }, totals: ReturnType<typeof bagTotals>, lastPack: Record<string, unknown> }) {
+  const base = { outcome: 'packed' as const, packed: what, ...change, sealed: false, sealError: null as string | null, bag: null as BagView | null }
+  if (change.totals.lines === 0 || change.totals.packed < change.totals.needed) return base
+  try {
+    await sealBag(db, bagId, packer)
+    base.sealed = true
   }
-  return { outcome: 'packed' as const, packed: what, bag, sealed: bag.bag.state === 'sealed', sealError }
+  catch (err) {
+    base.sealError = (err as Error).message
+  }
+  base.bag = await bagView(db, bagId)
+  return base
 }
 
 type PartRow = typeof schema.parts.$inferSelect

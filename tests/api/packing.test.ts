@@ -56,11 +56,19 @@ async function partIdByName(name: string) {
   return p!.id
 }
 
+/** The station's patch of its view after a pack (the whole bag comes back only when it seals). */
+function applyPacked(view: any, body: any) {
+  if (body.bag) return body.bag
+  for (const it of itemsOf(view)) if (it.itemId === body.item.itemId) Object.assign(it, body.item)
+  view.totals = body.totals
+  return view
+}
+
 /** Packs every open line of the claimed bag, taking Q-lines from `binFor` when given; returns the last response. */
 async function packAll(c: Client, bagId: number, view: any, binFor: (it: Item) => string | undefined = () => undefined) {
-  let last: any = { body: { bag: view } }
+  let last: any = null
   for (let guard = 0; guard < 400; guard++) {
-    const open = itemsOf(last.body.bag).find(i => i.qtyPacked < i.qtyNeeded)
+    const open = itemsOf(view).find(i => i.qtyPacked < i.qtyNeeded)
     if (!open) return last
     const bin = binFor(open) ?? open.bins[0]!
     let res = await scan(c, binToken(bin), { bagId, itemId: open.itemId })
@@ -68,6 +76,7 @@ async function packAll(c: Client, bagId: number, view: any, binFor: (it: Item) =
     if (res.status === 200 && res.body.outcome === 'count') res = await scan(c, binToken(bin), { bagId, itemId: open.itemId, qty: res.body.qty, confirmStandIn: !!res.body.standIn })
     expect(res.status, JSON.stringify(res.body)).toBe(200)
     expect(res.body.outcome).toBe('packed')
+    view = applyPacked(view, res.body)
     last = res
   }
   throw new Error('the bag did not finish packing')
