@@ -7,6 +7,7 @@ export const NAV: { to: string, label: string, roles: Role[] }[] = [
   { to: '/parts', label: 'Parts', roles: ['organiser', 'packer'] },
   { to: '/stock', label: 'Stock', roles: ['organiser'] },
   { to: '/reconcile', label: 'Reconcile', roles: ['organiser'] },
+  { to: '/pricing', label: 'Pricing', roles: ['organiser'] },
   { to: '/orders', label: 'Orders', roles: ['organiser'] },
   { to: '/pack', label: 'Packing', roles: ['packer', 'organiser'] },
   { to: '/spares', label: 'Spares desk', roles: ['organiser', 'packer'] },
