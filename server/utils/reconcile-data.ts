@@ -416,12 +416,8 @@ export async function buyListWorkbook(list: BuyListReport, title: string): Promi
   return Buffer.from(await wb.xlsx.writeBuffer())
 }
 
-/**
- * exceljs from its self-contained bundle, loaded on first export: the package's own entry pulls a
- * dependency whose 'module-sync' export the server build does not copy, which stops the server at start.
- */
+/** exceljs, loaded on the first export rather than when the server starts. */
 async function loadExcelJs(): Promise<typeof ExcelJSModule> {
-  // @ts-expect-error the prebuilt bundle ships no types; it has the same API as 'exceljs'
-  const mod = await import('exceljs/dist/exceljs.min.js')
-  return (mod.default ?? mod) as typeof ExcelJSModule
+  const mod = await import('exceljs')
+  return ((mod as { default?: typeof ExcelJSModule }).default ?? mod) as typeof ExcelJSModule
 }
