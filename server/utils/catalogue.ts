@@ -367,7 +367,7 @@ export async function partDetail(db: Reader, id: number) {
     db.select({ lotId: schema.lots.id, bin: schema.bins.code, place: schema.bins.place, onHand: schema.lots.onHand, receivedOn: schema.lots.receivedOn })
       .from(schema.lots).innerJoin(schema.bins, eq(schema.bins.id, schema.lots.binId))
       .where(eq(schema.lots.partId, id)).orderBy(asc(schema.bins.walkOrder), asc(schema.bins.code)),
-    availableByPart(db as never, [id]),
+    availableByPart(db, [id]),
     partUsage(db, id),
   ])
   const stock = available.get(id) ?? { onHand: 0, reserved: 0, available: 0 }
