@@ -1,17 +1,20 @@
 // Load bench for a build day's peak, with autocannon on loopback against a stack of its own (fresh
 // database, fakes, built server): 20 packers scanning their own bags, 60 builders browsing their
 // orders and bag and filing missing-part reports, and checkouts opening, all at the same time.
-// Two phases, each bounded in time: "peak" at people's pace (every packer and builder one request a
-// second, starts spread over the second) and "stress" with no pause between requests (capacity).
+// Three phases, each bounded in time: "solo" (one request at a time per route: service time),
+// "peak" at people's pace (every packer and builder one request a second, starts spread over the
+// second) and "stress" with no pause between requests (capacity).
 // Then the invariant checker runs on the database. Targets: p95 under 50 ms for reads and scans in
 // the peak phase, no errors, invariants hold.
 // Run: npx tsx bench/load.ts   (KW_DB_ADMIN_URL and KW_BUILD_DIR as for the tests;
-//      KW_LOAD_SECONDS per phase, default 25; KW_LOAD_PHASES=peak,stress)
-import { readFileSync } from 'node:fs'
+//      KW_LOAD_SECONDS per phase, default 25; KW_LOAD_PHASES=solo,peak,stress;
+//      KW_LOAD_PROFILE=1 profiles the app's CPU during the peak phase through its inspector and prints where the time goes)
+import { readdirSync, readFileSync } from 'node:fs'
 import { cpus, loadavg } from 'node:os'
 import { and, eq } from 'drizzle-orm'
 // @ts-expect-error autocannon ships no types
 import autocannon from 'autocannon'
+import WebSocket from 'ws'
 import * as schema from '../server/db/schema'
 import { runCheck } from '../server/db/check'
 import { labelUrl, signCode } from '../server/utils/codes'
@@ -20,7 +23,13 @@ import { Client, DEMO } from '../tests/support/client'
 import { startStack } from '../tests/support/stack'
 
 const SECONDS = Number(process.env.KW_LOAD_SECONDS || 25)
-const PHASES = (process.env.KW_LOAD_PHASES || 'peak,stress').split(',')
+const PHASES = (process.env.KW_LOAD_PHASES || 'solo,peak,stress').split(',')
+const PHASE_TITLES: Record<string, string> = {
+  solo: 'solo (one request at a time per route: service time without queueing)',
+  peak: 'peak (each packer and builder one request a second, 82 people at once)',
+  stress: 'stress (the same people with no pause between requests)',
+}
+const SOLO_REQUESTS = 120
 const PACKERS = 20
 const BUILDERS = 60
 const PACKER_BAGS = Number(process.env.KW_LOAD_BAGS || 160)
@@ -127,12 +136,22 @@ function nextScan(view: View, bagId: number, dayId: number, secret: string) {
   return { text: signCode('bin', open.bins[0]!, secret), buildDayId: dayId, bagId, itemId: open.itemId, qty: open.countSingly ? 1 : left, confirmStandIn: true }
 }
 
+/** The station's view after a scan: a claim and a seal answer the whole bag, a pack only the changed line. */
+function applyScan(view: View | undefined, res: { bag?: View | null, item?: { itemId: number, qtyPacked: number } }) {
+  if (res.bag) return res.bag
+  if (!view || !res.item) return view
+  for (const p of view.pouches) for (const i of p.items) if (i.itemId === res.item.itemId) i.qtyPacked = res.item.qtyPacked
+  return view
+}
+
 async function packWhole(c: Client, base: string, secret: string, dayId: number, bag: { bagId: number, code: string }) {
   let res = await c.post('/api/pack/scan', { text: labelUrl(base, 'bag', bag.code, secret), buildDayId: dayId })
+  let view = applyScan(undefined, res.body)
   for (let guard = 0; guard < 200 && res.status === 200 && !res.body.sealed; guard++) {
-    const body = nextScan(res.body.bag, bag.bagId, dayId, secret)
+    const body = nextScan(view!, bag.bagId, dayId, secret)
     if (!body) break
     res = await c.post('/api/pack/scan', body)
+    view = applyScan(view, res.body)
   }
   if (res.status !== 200 || !res.body.sealed) throw new Error(`setting up: bag ${bag.code} did not seal (${res.status} ${res.body.sealError ?? JSON.stringify(res.body).slice(0, 200)})`)
 }
@@ -166,7 +185,7 @@ function packerUser(i: number, cookie: string, base: string, secret: string, day
           return
         }
         const res = JSON.parse(body)
-        at.view = res.bag
+        at.view = applyScan(at.view, res)
         if (res.sealed) {
           sealed.n++
           at.bag = undefined
@@ -240,14 +259,39 @@ function percentile(sorted: number[], p: number) {
   return sorted[Math.min(sorted.length - 1, Math.ceil((p / 100) * sorted.length) - 1)]!
 }
 
-/** CPU seconds (user + system) a process has used so far, from /proc. */
-function cpuSeconds(pid: number) {
-  const fields = readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1]!.split(' ')
-  return (Number(fields[11]) + Number(fields[12])) / 100 // utime, stime in clock ticks (100 Hz on Linux)
+/** CPU seconds (user + system) a process has used so far, from /proc (0 when it cannot be read). */
+function cpuSeconds(pid: number | undefined) {
+  try {
+    const fields = readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1]!.split(' ')
+    return (Number(fields[11]) + Number(fields[12])) / 100 // utime, stime in clock ticks (100 Hz on Linux)
+  }
+  catch {
+    return 0
+  }
 }
 
-function report(phase: string, stats: Stats, seconds: number, appCpu: number) {
-  console.log(`\n== ${phase}: ${seconds.toFixed(1)} s; app process CPU ${appCpu.toFixed(1)} s (${(100 * appCpu / seconds).toFixed(0)} % of one core); load average now ${loadavg().map(l => l.toFixed(1)).join(' ')}`)
+/** The database server's process (shared by every developer's tests here), to show how much of the CPU it took. */
+function mariadbPid() {
+  for (const d of readdirSync('/proc').filter(n => /^\d+$/.test(n))) {
+    try {
+      if (readFileSync(`/proc/${d}/comm`, 'utf8').trim() === 'mariadbd') return Number(d)
+    }
+    catch {}
+  }
+  return undefined
+}
+
+/** CPU used by the app, MariaDB and this bench between start() and the call of the function it returns. */
+function cpuMeter(appPid: number) {
+  const db = mariadbPid()
+  const at = { app: cpuSeconds(appPid), db: cpuSeconds(db), bench: process.cpuUsage() }
+  return () => ({ app: cpuSeconds(appPid) - at.app, db: cpuSeconds(db) - at.db, bench: (() => { const u = process.cpuUsage(at.bench); return (u.user + u.system) / 1e6 })() })
+}
+type Cpu = ReturnType<ReturnType<typeof cpuMeter>>
+
+function report(phase: string, stats: Stats, seconds: number, cpu: Cpu) {
+  const share = (v: number) => `${v.toFixed(1)} s (${(100 * v / seconds).toFixed(0)} % of a core)`
+  console.log(`\n== ${phase}: ${seconds.toFixed(1)} s; CPU: app ${share(cpu.app)}, MariaDB ${share(cpu.db)} (all developers' databases), this bench ${share(cpu.bench)}; load average now ${loadavg().map(l => l.toFixed(1)).join(' ')}`)
   console.log(`${'route'.padEnd(24)}${'requests'.padStart(9)}${'req/s'.padStart(8)}${'median'.padStart(9)}${'p95'.padStart(9)}${'p99'.padStart(9)}${'max'.padStart(9)}${'errors'.padStart(8)}`)
   let total = 0
   let errors = 0
@@ -265,8 +309,62 @@ function report(phase: string, stats: Stats, seconds: number, appCpu: number) {
     if (TARGETED.includes(route) && percentile(sorted, 95) >= TARGET_MS) misses.push(`${ROUTES[route]} p95 ${percentile(sorted, 95).toFixed(1)} ms`)
   }
   console.log(`${'all'.padEnd(24)}${String(total).padStart(9)}${(total / seconds).toFixed(1).padStart(8)}${''.padStart(36)}${String(errors).padStart(8)}`)
-  console.log(`app CPU per request: ${(1000 * appCpu / Math.max(1, total)).toFixed(2)} ms`)
+  console.log(`CPU per request: app ${(1000 * cpu.app / Math.max(1, total)).toFixed(2)} ms, MariaDB ${(1000 * cpu.db / Math.max(1, total)).toFixed(2)} ms`)
   return { misses, errors }
+}
+
+// ---------- where the app's time goes (KW_LOAD_PROFILE=1) ----------
+
+/** Opens the app's inspector (SIGUSR1) and starts the CPU profiler; the returned function stops it and prints the top functions by own time. */
+async function startProfile(pid: number) {
+  process.kill(pid, 'SIGUSR1')
+  let list: { webSocketDebuggerUrl: string }[] = []
+  for (let i = 0; i < 50 && !list.length; i++) {
+    await new Promise(r => setTimeout(r, 100))
+    list = await fetch('http://127.0.0.1:9229/json/list').then(r => r.json(), () => [])
+  }
+  if (!list.length) throw new Error('the app\'s inspector did not open on 127.0.0.1:9229')
+  const ws = new WebSocket(list[0]!.webSocketDebuggerUrl)
+  await new Promise((ok, fail) => { ws.once('open', ok); ws.once('error', fail) })
+  let id = 0
+  const call = (method: string) => new Promise<any>((ok) => {
+    const n = ++id
+    const onMessage = (data: Buffer) => {
+      const msg = JSON.parse(String(data))
+      if (msg.id === n) { ws.off('message', onMessage); ok(msg.result) }
+    }
+    ws.on('message', onMessage)
+    ws.send(JSON.stringify({ id: n, method }))
+  })
+  await call('Profiler.enable')
+  await call('Profiler.start')
+  return async () => {
+    const { profile } = await call('Profiler.stop')
+    ws.close()
+    printProfile(profile)
+  }
+}
+
+function printProfile(profile: { nodes: { id: number, callFrame: { functionName: string, url: string, lineNumber: number } }[], samples: number[], timeDeltas: number[] }) {
+  const byNode = new Map(profile.nodes.map(n => [n.id, n]))
+  const self = new Map<string, number>()
+  const byPackage = new Map<string, number>()
+  let total = 0
+  profile.samples.forEach((nodeId, i) => {
+    const dt = profile.timeDeltas[i] ?? 0
+    const f = byNode.get(nodeId)!.callFrame
+    const where = f.url.replace(/^file:\/\/.*?\.output\/server\//, '').replace(/^file:\/\//, '')
+    const key = `${f.functionName || '(anonymous)'}  ${where}:${f.lineNumber + 1}`
+    self.set(key, (self.get(key) ?? 0) + dt)
+    const pkg = /node_modules\/((?:@[^/]+\/)?[^/]+)/.exec(where)?.[1] ?? (where.startsWith('chunks') ? 'app (server chunks)' : where ? 'node internals' : f.functionName || '(other)')
+    byPackage.set(pkg, (byPackage.get(pkg) ?? 0) + dt)
+    total += dt
+  })
+  const top = (m: Map<string, number>, n: number) => [...m].sort((a, b) => b[1] - a[1]).slice(0, n)
+  console.log(`\n== app CPU profile of the peak phase (${(total / 1e6).toFixed(1)} s sampled): own time by package`)
+  for (const [k, v] of top(byPackage, 12)) console.log(`${(100 * v / total).toFixed(1).padStart(6)} %  ${k}`)
+  console.log('top functions by own time')
+  for (const [k, v] of top(self, 15)) console.log(`${(100 * v / total).toFixed(1).padStart(6)} %  ${k}`)
 }
 
 // ---------- main ----------
@@ -303,25 +401,40 @@ async function main() {
     console.log(`set up in ${((performance.now() - t0) / 1000).toFixed(0)} s: ${PACKER_BAGS} bags to pack, ${BUILDERS} builders with sealed bags, ${pairs.length} checkouts available`)
 
     const results: { phase: string, misses: string[], errors: number }[] = []
+    let stopProfile: (() => Promise<void>) | undefined
     for (const phase of PHASES) {
-      const paced = phase === 'peak'
       const stats = newStats()
       const sealed = { n: 0 }
-      const users: Workload[] = [
-        ...packers.map((p, i) => ({ route: 'scan' as const, opts: packerUser(i, p.cookie, base, secret, dayId, queue, stats, sealed), delayMs: paced ? (i * 1000) / PACKERS : 0 })),
-        ...builders.map((b, i) => ({ route: 'builder' as const, opts: builderUser(i, b, stats), delayMs: paced ? (i * 1000) / BUILDERS + 7 : 0 })),
-        ...[0, 1].map(i => ({ route: 'checkout' as const, opts: checkoutUser(i, pairs, stats), delayMs: paced ? 250 + i * 500 : 0 })),
-      ]
-      const perCheckoutConn = Math.floor(pairs.length / 2)
-      const cpu0 = cpuSeconds(stack.app.child.pid!)
+      const meter = cpuMeter(stack.app.child.pid!)
       const started = performance.now()
-      await Promise.all(users.map(async (u) => {
-        await new Promise(r => setTimeout(r, u.delayMs))
-        const fallback: Route = u.route === 'builder' ? 'orders' : u.route
-        return run(base, u.opts, stats, fallback, SECONDS, paced ? 1 : null, u.route === 'checkout' ? perCheckoutConn : undefined)
-      }))
+      if (phase === 'solo') {
+        // One request at a time per route: the service time without queueing, and its CPU cost.
+        await run(base, packerUser(0, packers[0]!.cookie, base, secret, dayId, queue, stats, sealed), stats, 'scan', 8, null, SOLO_REQUESTS)
+        await run(base, builderUser(0, builders[0]!, stats), stats, 'orders', 8, null, SOLO_REQUESTS)
+        await run(base, checkoutUser(0, pairs, stats), stats, 'checkout', 8, null, 20)
+      }
+      else {
+        const paced = phase === 'peak'
+        if (paced && process.env.KW_LOAD_PROFILE) stopProfile = await startProfile(stack.app.child.pid!)
+        const users: Workload[] = [
+          ...packers.map((p, i) => ({ route: 'scan' as const, opts: packerUser(i, p.cookie, base, secret, dayId, queue, stats, sealed), delayMs: paced ? (i * 1000) / PACKERS : 0 })),
+          ...builders.map((b, i) => ({ route: 'builder' as const, opts: builderUser(i, b, stats), delayMs: paced ? (i * 1000) / BUILDERS + 7 : 0 })),
+          ...[0, 1].map(i => ({ route: 'checkout' as const, opts: checkoutUser(i, pairs, stats), delayMs: paced ? 250 + i * 500 : 0 })),
+        ]
+        const perCheckoutConn = Math.floor(pairs.length / 2)
+        await Promise.all(users.map(async (u) => {
+          await new Promise(r => setTimeout(r, u.delayMs))
+          const fallback: Route = u.route === 'builder' ? 'orders' : u.route
+          return run(base, u.opts, stats, fallback, SECONDS, paced ? 1 : null, u.route === 'checkout' ? perCheckoutConn : undefined)
+        }))
+      }
       const elapsed = (performance.now() - started) / 1000
-      const r = report(paced ? 'peak (each person one request a second)' : 'stress (no pause between requests)', stats, elapsed, cpuSeconds(stack.app.child.pid!) - cpu0)
+      const cpu = meter()
+      if (stopProfile) {
+        await stopProfile()
+        stopProfile = undefined
+      }
+      const r = report(PHASE_TITLES[phase] ?? phase, stats, elapsed, cpu)
       console.log(`bags sealed during the phase: ${sealed.n}; checkouts left: ${pairs.length}`)
       results.push({ phase, ...r })
     }
@@ -335,10 +448,10 @@ async function main() {
     }
     console.log(problems.length ? `${problems.length} problem(s) found` : 'all rules hold')
 
-    const peak = results.find(r => r.phase === 'peak')
-    if (peak) {
-      const ok = !peak.misses.length && !peak.errors && !problems.length
-      console.log(`\ntargets (peak phase): ${ok ? 'met' : 'NOT met'} — p95 < ${TARGET_MS} ms for reads and scans${peak.misses.length ? ` (missed: ${peak.misses.join('; ')})` : ''}, ${peak.errors} errors, ${problems.length} invariant problems`)
+    console.log('')
+    for (const r of results.filter(x => x.phase !== 'stress')) {
+      const ok = !r.misses.length && !r.errors && !problems.length
+      console.log(`targets (${r.phase}): ${ok ? 'met' : 'NOT met'} — p95 < ${TARGET_MS} ms for reads and scans${r.misses.length ? ` (missed: ${r.misses.join('; ')})` : ''}, ${r.errors} errors, ${problems.length} invariant problems`)
     }
   }
   finally {
