@@ -50,6 +50,7 @@ test.describe('parts catalogue', () => {
     await expect(table.getByRole('link', { name: 'Capacitor 100 nF X7R' })).toBeVisible()
     await expect(table.getByRole('link', { name: 'Resistor 4.7 kΩ' })).toHaveCount(0)
     await page.getByLabel('Search by value, name or package').fill('0.1u')
+    await expect(page.getByTestId('search-readings')).toContainText('100 n (any unit)')
     await expect(table.getByRole('link', { name: 'Capacitor 100 nF X7R' })).toBeVisible()
 
     // The search stays in the address: back from a part returns to the same list.
