@@ -69,6 +69,31 @@ for (const { path, who, heading } of PAGES) {
   })
 }
 
+// Detail pages, reached from the first record the role's list gives.
+const DETAIL: { name: string, who: Who, find: (page: Page) => Promise<string>, heading: string | RegExp }[] = [
+  { name: 'a kit', who: 'organiser', heading: /.+/, find: async page => `/kits/${(await json(page, '/api/kits'))[0].id}` },
+  { name: 'a build day', who: 'organiser', heading: /.+/, find: async page => `/build-days/${(await json(page, '/api/build-days'))[0].id}` },
+  { name: 'an order', who: 'organiser', heading: /^Order #/, find: async page => `/orders/${(await json(page, '/api/orders')).rows[0].id}` },
+  { name: 'a bag', who: 'organiser', heading: /^Bag /, find: async page => `/bags/${(await json(page, '/api/bags')).bags[0].code}` },
+  { name: 'receiving stock', who: 'organiser', heading: 'Stock', find: async () => '/stock/receive' },
+  { name: 'my bag', who: 'builder', heading: /.+/, find: async page => `/my/bags/${(await json(page, '/api/my/orders')).orders.find((o: any) => o.bag).bag.id}` },
+  { name: 'the report form', who: 'builder', heading: 'Report a missing part', find: async page => `/my/bags/${(await json(page, '/api/my/orders')).orders.find((o: any) => o.bag).bag.id}/report` },
+]
+
+async function json(page: Page, path: string) {
+  const res = await page.request.get(path)
+  expect(res.status(), path).toBe(200)
+  return res.json()
+}
+
+for (const { name, who, find, heading } of DETAIL) {
+  test(`${name} (${who}) has no serious accessibility violation`, async ({ page }) => {
+    await signIn(page, EMAIL[who!])
+    await open(page, await find(page), null, heading)
+    expect(await seriousViolations(page)).toEqual([])
+  })
+}
+
 test.describe('at phone width', () => {
   test.use({ viewport: PHONE })
   for (const { path, who, heading } of PAGES.filter(p => ['/pack', '/my', '/shop', '/login'].includes(p.path))) {
