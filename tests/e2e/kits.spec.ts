@@ -145,6 +145,9 @@ test.describe('kits and BOM revisions', () => {
     await signIn(page, DEMO.organiser)
     await page.goto('/kits')
     await page.getByText('Wren 40 receiver').click()
+    // Kit cards on the list also name their latest revision: wait for the kit's own page first.
+    await page.waitForURL(/\/kits\/\d+$/)
+    await expect(page.getByRole('heading', { level: 1, name: 'Wren 40 receiver' })).toBeVisible()
     await page.getByRole('link', { name: 'Revision A' }).click()
     await expect(page.getByRole('heading', { name: 'Revision A' })).toBeVisible()
     const rows = page.getByTestId('line-row')

@@ -30,6 +30,6 @@ export default defineEventHandler(async (event) => {
   if (ids.length > MAX_BAGS) throw createError({ statusCode: 413, statusMessage: 'Too many', message: `Print at most ${MAX_BAGS} bags at once` })
   const { publicUrl, labelSecret } = useRuntimeConfig(event)
   const labels = await bagLabels(db, ids, q.kind, publicUrl, labelSecret)
-  const pdf = await renderLabels(labels, layout, { startAt: Math.min(q.startAt, layout.rows * layout.cols - 1) })
+  const pdf = await renderLabels(labels, layout, { startAt: Math.min(q.startAt, layout.rows * layout.cols - 1), fonts: await labelFonts() })
   return sendPdf(event, pdf, `kitwright-${q.kind}-labels.pdf`, q.download)
 })

@@ -14,6 +14,6 @@ export default defineEventHandler(async (event) => {
   const { publicUrl, labelSecret } = useRuntimeConfig(event)
   const labels = await binLabels(useDb(), codes, publicUrl, labelSecret)
   if (!labels.length) throw createError({ statusCode: 404, statusMessage: 'Not found', message: 'No such bins' })
-  const pdf = await renderLabels(labels, layout, { startAt: Math.min(q.startAt, layout.rows * layout.cols - 1) })
+  const pdf = await renderLabels(labels, layout, { startAt: Math.min(q.startAt, layout.rows * layout.cols - 1), fonts: await labelFonts() })
   return sendPdf(event, pdf, 'kitwright-bin-labels.pdf', q.download)
 })

@@ -23,7 +23,7 @@ export default defineEventHandler(async (event) => {
     lines: bin.place ? [bin.place] : [],
     count: q.copies,
     tone: 'bin',
-  }], layout)
+  }], layout, { fonts: await labelFonts() })
   setHeader(event, 'content-type', 'application/pdf')
   setHeader(event, 'content-disposition', `attachment; filename="bin-${bin.code}.pdf"`)
   return pdf
