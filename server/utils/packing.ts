@@ -198,6 +198,12 @@ async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
   const lot = chooseLot(lots.filter(l => l.partId === pick.partId), pending, qty, code, pick.partName)
   const done = await db.transaction(async (tx) => {
     await claim(tx, h.id, packer.id)
+    // Two packers may have chosen the same last units of this lot: re-check under the lot's row lock
+    // (read committed, so the other pack, once committed, is counted).
+    const [fresh] = await tx.select({ onHand: schema.lots.onHand }).from(schema.lots).where(eq(schema.lots.id, lot.id)).for('update')
+    const held = (await pendingWhere(tx as unknown as Parameters<typeof pendingWhere>[0], sql`l.id = ${lot.id}`)).get(lot.id) ?? 0
+    if (!fresh || fresh.onHand - held < qty)
+      throw refuse(409, 'bin-short', `Bin ${code} has only ${Math.max(0, (fresh?.onHand ?? 0) - held)} × ${pick.partName} left on the books (counting parts already in unsealed bags): count the bin or use another`)
     const I = schema.bagItems
     const [res] = await tx.update(I).set({
       qtyPacked: sql`${I.qtyPacked} + ${qty}`,
@@ -208,7 +214,7 @@ async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
     const [ev] = await tx.insert(schema.bagEvents).values({ bagId: h.id, bagItemId: pick.item.itemId, kind: 'pack', lotId: lot.id, binId: bin.id, partId: pick.partId, qty, userId: packer.id, note: pick.standIn ? 'stand-in' : null }).$returningId()
     const [now] = await tx.select({ qtyPacked: I.qtyPacked }).from(I).where(eq(I.id, pick.item.itemId))
     return { eventId: ev!.id, qtyPacked: now!.qtyPacked }
-  })
+  }, { isolationLevel: 'read committed' })
   const item = {
     itemId: pick.item.itemId, qtyPacked: done.qtyPacked,
     standInPartId: pick.standIn ? pick.partId : pick.item.standInPartId,

@@ -1,0 +1,64 @@
+// Two packers take the last unit of a lot at the same moment: the second pack must be refused at once,
+// not accepted and then left unsealable.
+import { afterAll, beforeAll, expect, inject, it } from 'vitest'
+import { labelUrl, signCode } from '../../server/utils/codes'
+import { Client, DEMO } from '../support/client'
+import { makeBag, openDb, type PackDb } from './packing-data'
+import { makeKitDay, uid, waitUntil, type Conn } from './selling-fixtures'
+
+const base = inject('baseUrl')
+const secret = inject('labelSecret')
+let conn: Conn
+let db: PackDb
+beforeAll(async () => {
+  const o = await openDb(inject('dbUrl'))
+  conn = o.conn
+  db = o.db
+})
+afterAll(async () => { await conn.end() })
+
+async function paidBag(dayId: number, offeringId: number) {
+  const t = uid()
+  const [u] = await conn.query<any>('insert into users (email, name, password_hash) values (?, ?, ?)', [`race.${t}@club.invalid`, `Race ${t}`, 'x'])
+  const [o] = await conn.query<any>(`insert into orders (build_day_id, offering_id, user_id, option_ids, state, amount_minor, currency, paid_at) values (?, ?, ?, '[]', 'paid', 1, 'GBP', now())`, [dayId, offeringId, u.insertId])
+  return { orderId: o.insertId, ...(await makeBag(db, o.insertId)) }
+}
+
+it('two packs of the last unit of a lot: the first seals its bag, the second is refused and packs nothing', async () => {
+  // Stock 2 so both reservations fit, then one unit scrapped: one unit is left for two bags.
+  const day = await makeKitDay(conn, { seats: 5, lines: [{ qty: 1, stock: 2 }] })
+  const a = await paidBag(day.dayId, day.offeringId)
+  const b = await paidBag(day.dayId, day.offeringId)
+  await conn.query('update lots set on_hand = on_hand - 1 where id = ?', [day.lotIds[0]])
+  await conn.query('insert into ledger (lot_id, part_id, bin_id, kind, qty, user_id, reason) select id, part_id, bin_id, \'scrap\', -1, 1, \'race test\' from lots where id = ?', [day.lotIds[0]])
+  const [[bin]] = await conn.query<any[]>('select b.code from bins b join lots l on l.bin_id = b.id where l.id = ?', [day.lotIds[0]])
+  const p1 = await new Client(base).login(DEMO.packer)
+  const p2 = await new Client(base).login(DEMO.packer2)
+  expect((await p1.post('/api/pack/scan', { text: labelUrl(base, 'bag', a.code, secret), buildDayId: day.dayId })).status).toBe(200)
+  expect((await p2.post('/api/pack/scan', { text: labelUrl(base, 'bag', b.code, secret), buildDayId: day.dayId })).status).toBe(200)
+
+  // Hold bag B's row so B's pack waits inside its transaction after it chose the lot.
+  const { conn: lock } = await openDb(inject('dbUrl'))
+  await lock.query('start transaction')
+  await lock.query('select id from bags where id = ? for update', [b.id])
+  const bScan = p2.post('/api/pack/scan', { text: signCode('bin', bin.code, secret), buildDayId: day.dayId, bagId: b.id, qty: 1 })
+  await waitUntil('B to wait', async () => {
+    const [rows] = await conn.query<any[]>('select info, time_ms from information_schema.processlist where db = database() and info like ?', ['update `bags`%'])
+    return rows.some((r: any) => Number(r.time_ms) > 200) || null
+  })
+  const aScan = await p1.post('/api/pack/scan', { text: signCode('bin', bin.code, secret), buildDayId: day.dayId, bagId: a.id, qty: 1 })
+  await lock.query('rollback')
+  await lock.end()
+  const bRes = await bScan
+
+  expect(aScan.status).toBe(200)
+  expect(bRes.status).toBe(409)
+  expect(bRes.body.message).toMatch(/left on the books/)
+  const [states] = await conn.query<any[]>('select id, state from bags where id in (?) order by id', [[a.id, b.id]])
+  expect(states[0].state).toBe('sealed')
+  expect(['open', 'packing']).toContain(states[1].state)
+  const [[packed]] = await conn.query<any[]>('select cast(sum(qty_packed) as signed) as n from bag_items where bag_id = ?', [b.id])
+  expect(Number(packed.n)).toBe(0)
+  const [[lot]] = await conn.query<any[]>('select on_hand from lots where id = ?', [day.lotIds[0]])
+  expect(lot.on_hand).toBe(0)
+})
