@@ -123,7 +123,7 @@ describe('round trip: import → workbook → exceljs', () => {
     expect(ws.pageSetup).toMatchObject({ fitToPage: true, fitToWidth: 1, fitToHeight: 0, orientation: 'landscape' })
     expect(ws.pageSetup.printTitlesRow).toBe(`${head}:${head}`)
     for (let c = 1; c <= 10; c++) expect(ws.getColumn(c).width, `column ${c}`).toBeGreaterThanOrEqual(6)
-    expect(ws.autoFilter).toBeTruthy()
+    expect(String(ws.autoFilter)).toMatch(new RegExp(`^A${head}:[A-Z]+${head}$`)) // the filter spans the header row
   })
 })
 
