@@ -9,7 +9,6 @@
 // Run: npx tsx bench/load.ts   (KW_DB_ADMIN_URL and KW_BUILD_DIR as for the tests;
 //      KW_LOAD_SECONDS per phase, default 25; KW_LOAD_PHASES=solo,peak,stress;
 //      KW_LOAD_PROFILE=1 profiles the app's CPU during the peak phase through its inspector and prints where the time goes)
-import { readdirSync, readFileSync } from 'node:fs'
 import { cpus, loadavg } from 'node:os'
 import { and, eq } from 'drizzle-orm'
 // @ts-expect-error autocannon ships no types
@@ -19,6 +18,7 @@ import * as schema from '../server/db/schema'
 import { runCheck } from '../server/db/check'
 import { labelUrl, signCode } from '../server/utils/codes'
 import { makeBag, makePaidBag, openDb, type PackDb } from '../tests/api/packing-data'
+import { cpuMeter, type Cpu } from './cpu'
 import { Client, DEMO } from '../tests/support/client'
 import { startStack } from '../tests/support/stack'
 
@@ -259,35 +259,6 @@ function percentile(sorted: number[], p: number) {
   return sorted[Math.min(sorted.length - 1, Math.ceil((p / 100) * sorted.length) - 1)]!
 }
 
-/** CPU seconds (user + system) a process has used so far, from /proc (0 when it cannot be read). */
-function cpuSeconds(pid: number | undefined) {
-  try {
-    const fields = readFileSync(`/proc/${pid}/stat`, 'utf8').split(') ')[1]!.split(' ')
-    return (Number(fields[11]) + Number(fields[12])) / 100 // utime, stime in clock ticks (100 Hz on Linux)
-  }
-  catch {
-    return 0
-  }
-}
-
-/** The database server's process (shared by every developer's tests here), to show how much of the CPU it took. */
-function mariadbPid() {
-  for (const d of readdirSync('/proc').filter(n => /^\d+$/.test(n))) {
-    try {
-      if (readFileSync(`/proc/${d}/comm`, 'utf8').trim() === 'mariadbd') return Number(d)
-    }
-    catch {}
-  }
-  return undefined
-}
-
-/** CPU used by the app, MariaDB and this bench between start() and the call of the function it returns. */
-function cpuMeter(appPid: number) {
-  const db = mariadbPid()
-  const at = { app: cpuSeconds(appPid), db: cpuSeconds(db), bench: process.cpuUsage() }
-  return () => ({ app: cpuSeconds(appPid) - at.app, db: cpuSeconds(db) - at.db, bench: (() => { const u = process.cpuUsage(at.bench); return (u.user + u.system) / 1e6 })() })
-}
-type Cpu = ReturnType<ReturnType<typeof cpuMeter>>
 
 function report(phase: string, stats: Stats, seconds: number, cpu: Cpu) {
   const share = (v: number) => `${v.toFixed(1)} s (${(100 * v / seconds).toFixed(0)} % of a core)`

@@ -1,6 +1,7 @@
 // Packing bench: 20 packers scan at once for 30 seconds against a stack of our own (fresh database,
 // built server on loopback), then stock is checked against the ledger; and the time to render the
 // labels of 60 bags. Run: npx tsx bench/packing.ts  (KW_DB_ADMIN_URL and KW_BUILD_DIR as for the tests)
+import { loadavg } from 'node:os'
 import { eq, sql } from 'drizzle-orm'
 import * as schema from '../server/db/schema'
 import { bagLabels } from '../server/utils/bags'
@@ -9,6 +10,7 @@ import { renderLabels, SHEET_LAYOUTS } from '../server/utils/labels'
 import { makeBuildDay, makePaidBag, openDb, stockLedgerMismatches, type PackDb } from '../tests/api/packing-data'
 import { Client } from '../tests/support/client'
 import { startStack } from '../tests/support/stack'
+import { cpuMeter, type Cpu } from './cpu'
 
 const PACKERS = Number(process.env.KW_BENCH_PACKERS || 20)
 const SECONDS = Number(process.env.KW_BENCH_SECONDS || 30)
@@ -17,7 +19,7 @@ const BAGS = Number(process.env.KW_BENCH_BAGS || 300)
 const PAUSE_MS = Number(process.env.KW_BENCH_PAUSE_MS || 250)
 const KITS = [{ slug: 'wren-40', option: '40 m (7.030 MHz)' }, { slug: 'linnet-20' }, { slug: 'tern-atu' }, { slug: 'wren-40', option: '80 m (3.560 MHz)' }]
 
-function report(stats: Stats, elapsed: number, pauseMs: number) {
+function report(stats: Stats, elapsed: number, pauseMs: number, cpu: Cpu) {
   const sorted = [...stats.latencies].sort((a, b) => a - b)
   const errors = [...stats.errors.values()].reduce((a, b) => a + b, 0)
   console.log(`\nscan API, ${PACKERS} concurrent packers ${pauseMs ? `each pausing ~${pauseMs} ms between scans` : 'scanning flat out (no pause)'}, ${elapsed.toFixed(1)} s on loopback:`)
@@ -28,6 +30,8 @@ function report(stats: Stats, elapsed: number, pauseMs: number) {
     console.log(`    ${kind}: ${list.length} requests, median ${percentile(s2, 50).toFixed(1)} ms, p95 ${percentile(s2, 95).toFixed(1)} ms`)
   }
   console.log(`  errors ${errors}${errors ? `: ${JSON.stringify(Object.fromEntries(stats.errors))}` : ''}`)
+  const per = (v: number) => `${(1000 * v / Math.max(1, stats.requests)).toFixed(2)} ms`
+  console.log(`  CPU per request: app ${per(cpu.app)}, MariaDB ${per(cpu.db)}, this bench ${per(cpu.bench)}; load average now ${loadavg().map(l => l.toFixed(1)).join(' ')}`)
 }
 
 /** The same 20-way load on /api/health (no session, no database): what this machine gives any request right now. */
@@ -154,8 +158,9 @@ async function main() {
       const stats: Stats = { latencies: [], errors: new Map(), bagsSealed: 0, requests: 0, byKind: new Map() }
       const until = Date.now() + SECONDS * 1000
       const started = performance.now()
+      const meter = cpuMeter(stack.app.child.pid!)
       await Promise.all(clients.map(c => packer(c, stack.baseUrl, stack.labelSecret, dayId, queue, until, stats, pauseMs)))
-      report(stats, (performance.now() - started) / 1000, pauseMs)
+      report(stats, (performance.now() - started) / 1000, pauseMs, meter())
       // Finish the claimed bags' claims so the next round starts clean.
       await db.update(schema.bags).set({ claimedBy: null, claimedAt: null }).where(eq(schema.bags.buildDayId, dayId))
     }

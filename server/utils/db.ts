@@ -16,7 +16,9 @@ let db: Db | undefined
 export function useDb(): Db {
   if (!db) {
     const url = useRuntimeConfig().databaseUrl
-    pool = mysql.createPool({ uri: url, connectionLimit: Number(process.env.KW_DB_POOL || 20), timezone: 'Z', dateStrings: ['DATE'], decimalNumbers: true })
+    pool = mysql.createPool({ uri: url, connectionLimit: Number(process.env.KW_DB_POOL || 20), timezone: 'Z', dateStrings: ['DATE'], decimalNumbers: true,
+      // No stack capture per query (mysql2's default): errors keep their message and code, and each query saves a stack walk.
+      trace: false })
     db = drizzle(pool, { schema, mode: 'default' })
   }
   return db

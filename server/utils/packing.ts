@@ -1,11 +1,11 @@
-import { and, asc, desc, eq, inArray, isNull, or, sql } from 'drizzle-orm'
+import { and, asc, desc, eq, inArray, isNotNull, isNull, or, sql } from 'drizzle-orm'
 import { createError, setResponseHeader, setResponseHeaders, setResponseStatus, type H3Event } from 'h3'
 import { z } from 'zod'
 import * as schema from '../db/schema'
 import { bagSwapPart, bagTotals, COUNTED_SINGLY, loadBagHeaders, loadBagItems, loadSwapRules, pendingWhere, pouchesOf, standInVerdict, type BagItemRow } from './bags'
 import { isBagCode, looksLikeBareCode, readScan } from './codes'
 import { SHEET_LAYOUTS, validateLayout, type SheetLayout } from './labels'
-import { moveStock } from './stock'
+import { moveStockBatch } from './stock'
 import type { Db, Tx } from './db'
 
 /** A claim on a bag lapses after this long without a scan (KW_CLAIM_MINUTES, default 10). */
@@ -26,33 +26,64 @@ export type BagView = Awaited<ReturnType<typeof bagView>>
 
 /** The bag as the station shows it: header, pouches with lines and suggested bins, totals, the scan undo would take back. */
 export async function bagView(db: Db, bagId: number) {
-  const [[bag], items, bins, lastPack] = await Promise.all([
+  const [[bag], items, stock, lastPack] = await Promise.all([
     loadBagHeaders(db, { ids: [bagId] }, CLAIM_LAPSE_SECONDS),
     loadBagItems(db, [bagId]),
-    suggestedBins(db, bagId),
+    binStock(db, bagId),
     lastPackEvent(db, bagId),
   ])
   if (!bag) throw refuse(404, 'unknown', 'There is no such bag')
-  return { bag, pouches: pouchesOf(items, bins), totals: bagTotals(items), lastPack, claimLapseSeconds: CLAIM_LAPSE_SECONDS }
+  return { bag, pouches: pouchesOf(items, suggestedBins(items, stock)), totals: bagTotals(items), lastPack, claimLapseSeconds: CLAIM_LAPSE_SECONDS }
+}
+
+/** What the bin suggestions need, in two small queries: the order's reservations, and the lots in stock of every part in play. */
+async function binStock(db: Db, bagId: number) {
+  const [[reserved], [lots]] = await Promise.all([
+    db.execute(sql`select r.line_id as lineId, r.part_id as partId from bags g join reservations r on r.order_id = g.order_id
+      where g.id = ${bagId} and r.state in ('held', 'confirmed', 'consumed')`),
+    // The parts in play first (a small derived table), then their lots by the part index.
+    db.execute(sql`select l.id as lotId, l.part_id as partId, l.received_on as receivedOn, b.code as code
+      from (select i.part_id from bag_items i where i.bag_id = ${bagId}
+        union select r.part_id from bags g join reservations r on r.order_id = g.order_id where g.id = ${bagId}) p
+      join lots l on l.part_id = p.part_id and l.on_hand > 0 join bins b on b.id = l.bin_id`),
+  ])
+  return {
+    reserved: reserved as unknown as { lineId: number, partId: number }[],
+    lots: lots as unknown as { lotId: number, partId: number, receivedOn: string, code: string }[],
+  }
 }
 
 /**
- * Bins to suggest for each open line, in one query: bins holding the part the order reserved for the
- * line first, then the line's own part, oldest lot first. (The pick list does the full allocation.)
+ * Bins to suggest for each open line: bins holding the part the order reserved for the line first,
+ * then the line's own part, oldest lot first. (The pick list does the full allocation.)
  */
-async function suggestedBins(db: Db, bagId: number) {
-  const [rows] = await db.execute(sql`select x.item_id as itemId, b.code as code
-    from (
-      select i.id as item_id, i.part_id as part_id, 0 as reserved, 1 as own from bag_items i where i.bag_id = ${bagId} and i.qty_packed < i.qty_needed
-      union all
-      select i.id, r.part_id, 1, r.part_id = i.part_id from bag_items i join bags g on g.id = i.bag_id
-        join reservations r on r.order_id = g.order_id and r.line_id = i.line_id and r.state in ('held', 'confirmed', 'consumed')
-      where i.bag_id = ${bagId} and i.qty_packed < i.qty_needed
-    ) x join lots l on l.part_id = x.part_id and l.on_hand > 0 join bins b on b.id = l.bin_id
-    group by x.item_id, b.code
-    order by x.item_id, max(x.reserved) desc, max(x.own) desc, min(l.received_on), min(l.id)`)
+function suggestedBins(items: BagItemRow[], stock: Awaited<ReturnType<typeof binStock>>) {
+  const lotsOf = new Map<number, typeof stock.lots>()
+  for (const l of stock.lots) lotsOf.set(Number(l.partId), [...(lotsOf.get(Number(l.partId)) ?? []), l])
   const out = new Map<number, string[]>()
-  for (const r of rows as unknown as { itemId: number, code: string }[]) out.set(Number(r.itemId), [...(out.get(Number(r.itemId)) ?? []), r.code])
+  for (const item of items) {
+    if (item.qtyPacked >= item.qtyNeeded) continue
+    const wanted = [
+      ...stock.reserved.filter(r => Number(r.lineId) === item.lineId).map(r => ({ partId: Number(r.partId), reserved: 1, own: Number(r.partId) === item.partId ? 1 : 0 })),
+      { partId: item.partId, reserved: 0, own: 1 },
+    ]
+    const byBin = new Map<string, { reserved: number, own: number, receivedOn: string, lotId: number }>()
+    for (const w of wanted) {
+      for (const l of lotsOf.get(w.partId) ?? []) {
+        const b = byBin.get(l.code)
+        const receivedOn = String(l.receivedOn)
+        if (!b) byBin.set(l.code, { reserved: w.reserved, own: w.own, receivedOn, lotId: Number(l.lotId) })
+        else {
+          b.reserved = Math.max(b.reserved, w.reserved)
+          b.own = Math.max(b.own, w.own)
+          if (receivedOn < b.receivedOn) b.receivedOn = receivedOn
+          b.lotId = Math.min(b.lotId, Number(l.lotId))
+        }
+      }
+    }
+    const codes = [...byBin].sort(([, a], [, b]) => b.reserved - a.reserved || b.own - a.own || (a.receivedOn < b.receivedOn ? -1 : a.receivedOn > b.receivedOn ? 1 : 0) || a.lotId - b.lotId).map(([code]) => code)
+    if (codes.length) out.set(item.itemId, codes)
+  }
   return out
 }
 
@@ -132,10 +163,10 @@ const lapsed = () => sql`${schema.bags.claimedAt} < now() - interval ${CLAIM_LAP
 
 /** Claims (or renews the claim on) a bag inside the caller's transaction; the row lock serialises every write to the bag. */
 async function claim(tx: Tx, bagId: number, userId: number) {
-  const B = schema.bags
-  const [res] = await tx.update(B).set({ claimedBy: userId, claimedAt: sql`now()`, state: 'packing' })
-    .where(and(eq(B.id, bagId), inArray(B.state, ['open', 'packing']), or(isNull(B.claimedBy), eq(B.claimedBy, userId), lapsed())))
-  if (res.affectedRows === 1) return
+  // Plain SQL on the scan path: Drizzle's builder costs more CPU than the statement here.
+  const [res] = await tx.execute(sql`update bags set claimed_by = ${userId}, claimed_at = now(), state = 'packing'
+    where id = ${bagId} and state in ('open', 'packing') and (claimed_by is null or claimed_by = ${userId} or claimed_at < now() - interval ${CLAIM_LAPSE_SECONDS} second)`)
+  if ((res as unknown as { affectedRows: number }).affectedRows === 1) return
   const [h] = await loadBagHeaders(tx as unknown as Db, { ids: [bagId] }, CLAIM_LAPSE_SECONDS)
   if (!h) throw refuse(404, 'unknown', 'There is no such bag')
   if (h.state === 'sealed' || h.state === 'collected') throw refuse(409, 'sealed', `Bag ${h.code} has just been sealed`, { bagId })
@@ -166,24 +197,34 @@ export async function releaseBag(db: Db, bagId: number, packer: Packer) {
 
 interface Candidate { item: BagItemRow, partId: number, partName: string, standIn: { warning: string | null } | null }
 
+/** A bin with its lots (oldest first) and, per lot, what unsealed bags already hold of it: one query. */
+async function binWithLots(db: Db, code: string) {
+  const [rows] = await db.execute(sql`select b.id as binId, l.id as lotId, l.part_id as partId, l.on_hand as onHand,
+      coalesce((select sum(e.qty) from bag_events e join bags g on g.id = e.bag_id
+        where e.lot_id = l.id and e.kind = 'pack' and e.undone = 0 and g.state in ('open', 'packing')), 0) as pending
+    from bins b left join lots l on l.bin_id = b.id where b.code = ${code} order by l.received_on, l.id`)
+  const list = rows as unknown as { binId: number, lotId: number | null, partId: number | null, onHand: number | null, pending: number | string }[]
+  if (!list.length) return null
+  return {
+    id: Number(list[0]!.binId),
+    lots: list.flatMap(r => (r.lotId == null ? [] : [{ id: Number(r.lotId), partId: Number(r.partId), onHand: Number(r.onHand), pending: Number(r.pending) }])),
+  }
+}
+type BinLot = NonNullable<Awaited<ReturnType<typeof binWithLots>>>['lots'][number]
+
 async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
   if (!input.bagId) throw refuse(409, 'no-bag', `That is bin ${code}: scan a bag's label first`)
-  const inBin = sql`(select l2.part_id from lots l2 join bins b2 on b2.id = l2.bin_id where b2.code = ${code})`
-  const [[h], binLots, items, parts, pending] = await Promise.all([
-    loadBagHeaders(db, { ids: [input.bagId] }, CLAIM_LAPSE_SECONDS),
-    db.select({ bin: schema.bins, lot: schema.lots }).from(schema.bins).leftJoin(schema.lots, eq(schema.lots.binId, schema.bins.id))
-      .where(eq(schema.bins.code, code)).orderBy(asc(schema.lots.receivedOn), asc(schema.lots.id)),
-    loadBagItems(db, [input.bagId]),
-    db.select().from(schema.parts).where(or(sql`${schema.parts.id} in ${inBin}`, sql`${schema.parts.id} in (select i2.part_id from bag_items i2 where i2.bag_id = ${input.bagId})`)),
-    pendingWhere(db, sql`l.bin_id = (select b3.id from bins b3 where b3.code = ${code})`),
+  const bagId = input.bagId
+  const [[h], bin, items] = await Promise.all([
+    loadBagHeaders(db, { ids: [bagId] }, CLAIM_LAPSE_SECONDS),
+    binWithLots(db, code),
+    loadBagItems(db, [bagId]),
   ])
-  checkBag(h, `#${input.bagId}`, input.buildDayId, packer.id)
-  const bin = binLots[0]?.bin
+  checkBag(h, `#${bagId}`, input.buildDayId, packer.id)
   if (!bin) throw refuse(404, 'unknown', `Bin ${code} is not in Kitwright: check its label`)
-  const lots = binLots.flatMap(r => (r.lot ? [r.lot] : []))
-  const partById = new Map(parts.map(p => [p.id, p]))
-  const candidates = await binCandidates(db, items, lots.map(l => l.partId), partById, input.itemId)
-  if (!candidates.length) throw wrongBin(code, items, lots.map(l => l.partId), partById, input.itemId)
+  const binPartIds = bin.lots.map(l => l.partId)
+  const candidates = await binCandidates(db, items, binPartIds, input.itemId)
+  if (!candidates.length) throw await wrongBin(db, code, items, binPartIds, input.itemId)
   const pick = candidates[0]!
   const remaining = pick.item.qtyNeeded - pick.item.qtyPacked
   const prompt = { item: pick.item, binCode: code, partId: pick.partId, partName: pick.partName, standIn: pick.standIn, remaining }
@@ -195,25 +236,29 @@ async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
   if (qty > remaining)
     throw refuse(409, 'over-count', `${pick.item.designators} needs ${remaining} more; ${qty} is too many. Put back ${qty - remaining}.`, { itemId: pick.item.itemId, remaining })
 
-  const lot = chooseLot(lots.filter(l => l.partId === pick.partId), pending, qty, code, pick.partName)
+  const lot = chooseLot(bin.lots.filter(l => l.partId === pick.partId), qty, code, pick.partName)
   const done = await db.transaction(async (tx) => {
+    // The bag's row lock (the claim) serialises every write to this bag. Plain SQL throughout: this
+    // is the packing station's hottest path, and Drizzle's builder costs more CPU than these statements.
     await claim(tx, h.id, packer.id)
-    // Two packers may have chosen the same last units of this lot: re-check under the lot's row lock
-    // (read committed, so the other pack, once committed, is counted).
-    const [fresh] = await tx.select({ onHand: schema.lots.onHand }).from(schema.lots).where(eq(schema.lots.id, lot.id)).for('update')
-    const held = (await pendingWhere(tx as unknown as Parameters<typeof pendingWhere>[0], sql`l.id = ${lot.id}`)).get(lot.id) ?? 0
-    if (!fresh || fresh.onHand - held < qty)
-      throw refuse(409, 'bin-short', `Bin ${code} has only ${Math.max(0, (fresh?.onHand ?? 0) - held)} × ${pick.partName} left on the books (counting parts already in unsealed bags): count the bin or use another`)
-    const I = schema.bagItems
-    const [res] = await tx.update(I).set({
-      qtyPacked: sql`${I.qtyPacked} + ${qty}`,
-      ...(pick.standIn ? { standInPartId: pick.partId, standInWarning: pick.standIn.warning?.slice(0, 255) ?? null } : {}),
-    }).where(and(eq(I.id, pick.item.itemId), eq(I.bagId, h.id), sql`${I.qtyPacked} + ${qty} <= ${I.qtyNeeded}`))
-    if (res.affectedRows !== 1)
+    const standIn = pick.standIn ? { partId: pick.partId, warning: pick.standIn.warning?.slice(0, 255) ?? null } : null
+    const [res] = await tx.execute(sql`update bag_items set qty_packed = qty_packed + ${qty}
+      ${standIn ? sql`, stand_in_part_id = ${standIn.partId}, stand_in_warning = ${standIn.warning}` : sql``}
+      where id = ${pick.item.itemId} and bag_id = ${h.id} and qty_packed + ${qty} <= qty_needed`)
+    if ((res as unknown as { affectedRows: number }).affectedRows !== 1)
       throw refuse(409, 'over-count', `${pick.item.designators} was packed meanwhile: ${qty} more would be too many`, { itemId: pick.item.itemId })
-    const [ev] = await tx.insert(schema.bagEvents).values({ bagId: h.id, bagItemId: pick.item.itemId, kind: 'pack', lotId: lot.id, binId: bin.id, partId: pick.partId, qty, userId: packer.id, note: pick.standIn ? 'stand-in' : null }).$returningId()
-    const [now] = await tx.select({ qtyPacked: I.qtyPacked }).from(I).where(eq(I.id, pick.item.itemId))
-    return { eventId: ev!.id, qtyPacked: now!.qtyPacked }
+    const [ev] = await tx.execute(sql`insert into bag_events (bag_id, bag_item_id, kind, lot_id, bin_id, part_id, qty, user_id, note)
+      values (${h.id}, ${pick.item.itemId}, 'pack', ${lot.id}, ${bin.id}, ${pick.partId}, ${qty}, ${packer.id}, ${pick.standIn ? 'stand-in' : null})`)
+    const [now] = await tx.execute(sql`select qty_packed as qtyPacked from bag_items where id = ${pick.item.itemId}`) as unknown as [{ qtyPacked: number }[]]
+    // Two packers may have chosen the same last units of this lot. Take the lot's row lock as late as
+    // possible (it is held to the commit, and every packer of this kit wants it), then count again under
+    // it: read committed, so a pack the other committed meanwhile is counted, as is this one.
+    const [locked] = await tx.execute(sql`select on_hand as onHand from lots where id = ${lot.id} for update`) as unknown as [{ onHand: number }[]]
+    const onHand = locked[0] ? Number(locked[0].onHand) : 0
+    const held = (await pendingWhere(tx as unknown as Parameters<typeof pendingWhere>[0], sql`l.id = ${lot.id}`)).get(lot.id) ?? 0
+    if (!locked[0] || onHand - held < 0)
+      throw refuse(409, 'bin-short', `Bin ${code} has only ${Math.max(0, onHand - (held - qty))} × ${pick.partName} left on the books (counting parts already in unsealed bags): count the bin or use another`)
+    return { eventId: (ev as unknown as { insertId: number }).insertId, qtyPacked: Number(now[0]!.qtyPacked) }
   }, { isolationLevel: 'read committed' })
   const item = {
     itemId: pick.item.itemId, qtyPacked: done.qtyPacked,
@@ -248,43 +293,54 @@ async function packed(db: Db, bagId: number, packer: Packer, what: Record<string
   return base
 }
 
-type PartRow = typeof schema.parts.$inferSelect
+/** The parts' rows (for stand-in rules and names), for the few scans that need more than the bag's own lines. */
+async function partsById(db: Db, ids: number[]) {
+  const rows = ids.length ? await db.select().from(schema.parts).where(inArray(schema.parts.id, ids)) : []
+  return new Map(rows.map(p => [p.id, p]))
+}
 
 /** Open lines this bin's parts serve: own part first, then allowed stand-ins, in pouch order. */
-async function binCandidates(db: Db, items: BagItemRow[], binPartIds: number[], partById: Map<number, PartRow>, itemId?: number): Promise<Candidate[]> {
+async function binCandidates(db: Db, items: BagItemRow[], binPartIds: number[], itemId?: number): Promise<Candidate[]> {
   const open = items.filter(i => i.qtyPacked < i.qtyNeeded && (itemId === undefined || i.itemId === itemId))
-  const partIds = [...new Set(binPartIds)].filter(p => partById.has(p))
+  const partIds = [...new Set(binPartIds)]
   if (!open.length || !partIds.length) return []
   const own: Candidate[] = []
-  const standIns: Candidate[] = []
-  const rules = await loadSwapRules(db)
   for (const p of partIds) {
-    for (const item of open) {
-      if (item.partId === p) own.push({ item, partId: p, partName: partById.get(p)!.name, standIn: null })
-      else if (!item.noStandIns && partById.has(item.partId)) {
-        const v = standInVerdict(rules, bagSwapPart(partById.get(item.partId)!), bagSwapPart(partById.get(p)!), false)
-        if (v) standIns.push({ item, partId: p, partName: partById.get(p)!.name, standIn: { warning: v.warning } })
-      }
+    for (const item of open) if (item.partId === p) own.push({ item, partId: p, partName: item.partName, standIn: null })
+  }
+  // The usual scan: the bin holds a line's own part, and own parts always come before stand-ins.
+  if (own.length) return own
+  const mayStandIn = open.filter(i => !i.noStandIns)
+  if (!mayStandIn.length) return []
+  const [rules, partById] = await Promise.all([loadSwapRules(db), partsById(db, [...new Set([...partIds, ...mayStandIn.map(i => i.partId)])])])
+  const standIns: Candidate[] = []
+  for (const p of partIds) {
+    if (!partById.has(p)) continue
+    for (const item of mayStandIn) {
+      if (!partById.has(item.partId)) continue
+      const v = standInVerdict(rules, bagSwapPart(partById.get(item.partId)!), bagSwapPart(partById.get(p)!), false)
+      if (v) standIns.push({ item, partId: p, partName: partById.get(p)!.name, standIn: { warning: v.warning } })
     }
   }
-  return [...own, ...standIns]
+  return standIns
 }
 
 /** Why a bin does not serve this bag, in the packer's words. */
-function wrongBin(code: string, items: BagItemRow[], binPartIds: number[], partById: Map<number, PartRow>, itemId?: number) {
+async function wrongBin(db: Db, code: string, items: BagItemRow[], binPartIds: number[], itemId?: number) {
   if (!binPartIds.length) return refuse(409, 'wrong-bin', `Bin ${code} holds nothing on the books: this bag needs nothing from it`)
   const done = items.find(i => binPartIds.includes(i.partId) && i.qtyPacked >= i.qtyNeeded && (itemId === undefined || i.itemId === itemId))
   if (done) return refuse(409, 'line-done', `${done.designators} already has its ${done.qtyNeeded} × ${done.partName}: nothing more from bin ${code}`)
+  const partById = await partsById(db, [...new Set(binPartIds)])
   const what = [...new Set(binPartIds.map(id => partById.get(id)?.name ?? `part ${id}`))].join(', ')
   if (itemId !== undefined) return refuse(409, 'wrong-bin', `Bin ${code} holds ${what}, which does not go on that line`)
   return refuse(409, 'wrong-bin', `Wrong bin: ${code} holds ${what}, and nothing still open in this bag takes it`)
 }
 
 /** The oldest lot of the part in this bin that still has `qty` free after what unsealed bags hold. */
-function chooseLot(lots: (typeof schema.lots.$inferSelect)[], pending: Map<number, number>, qty: number, binCode: string, partName: string) {
+function chooseLot(lots: BinLot[], qty: number, binCode: string, partName: string) {
   let best = 0
   for (const lot of lots) {
-    const free = lot.onHand - (pending.get(lot.id) ?? 0)
+    const free = lot.onHand - lot.pending
     if (free >= qty) return lot
     best = Math.max(best, free)
   }
@@ -325,15 +381,13 @@ export async function sealBag(db: Db, bagId: number, packer: Packer) {
     const [open] = await tx.select({ n: sql<number>`count(*)` }).from(schema.bagItems)
       .where(and(eq(schema.bagItems.bagId, bagId), sql`${schema.bagItems.qtyPacked} < ${schema.bagItems.qtyNeeded}`))
     if (Number(open?.n)) throw refuse(409, 'incomplete', `${open!.n} line${Number(open!.n) === 1 ? ' is' : 's are'} not fully packed yet: the bag cannot be sealed`)
-    const picks = await tx.select({ lotId: E.lotId, partId: schema.lots.partId, qty: sql<number>`cast(sum(${E.qty}) as signed)` }).from(E)
-      .innerJoin(schema.lots, eq(schema.lots.id, E.lotId))
-      .where(and(eq(E.bagId, bagId), eq(E.kind, 'pack'), eq(E.undone, 0))).groupBy(E.lotId, schema.lots.partId)
-      .orderBy(asc(schema.lots.partId), asc(E.lotId))
-    for (const p of picks) {
-      if (Number(p.qty) > 0) await moveStock(tx, { lotId: p.lotId!, qty: -Number(p.qty), kind: 'pick', userId: packer.id, orderId: bag!.orderId, bagId, reason: `Packed into bag ${bag!.code}` })
-    }
+    const picks = await tx.select({ lotId: E.lotId, qty: sql<number>`cast(sum(${E.qty}) as signed)` }).from(E)
+      .where(and(eq(E.bagId, bagId), eq(E.kind, 'pack'), eq(E.undone, 0), isNotNull(E.lotId))).groupBy(E.lotId)
     await tx.update(schema.reservations).set({ state: 'consumed' }).where(and(eq(schema.reservations.orderId, bag!.orderId), eq(schema.reservations.state, 'confirmed')))
     await tx.insert(E).values({ bagId, kind: 'seal', userId: packer.id })
+    // Last: the lots' row locks are wanted by every packer of this kit, so they are held only to the commit.
+    await moveStockBatch(tx, picks.filter(p => Number(p.qty) > 0)
+      .map(p => ({ lotId: p.lotId!, qty: -Number(p.qty), kind: 'pick' as const, userId: packer.id, orderId: bag!.orderId, bagId, reason: `Packed into bag ${bag!.code}` })))
   })
 }
 
@@ -349,9 +403,8 @@ export async function unsealBag(db: Db, bagId: number, organiser: Packer, reason
     if (res.affectedRows !== 1) throw refuse(409, 'not-sealed', `Bag ${bag.code} is ${bag.state === 'collected' ? 'already collected' : 'not sealed'}: there is nothing to unseal`)
     const net = await tx.select({ lotId: L.lotId, qty: sql<number>`cast(sum(${L.qty}) as signed)` }).from(L)
       .where(and(eq(L.bagId, bagId), inArray(L.kind, ['pick', 'return']))).groupBy(L.lotId).orderBy(asc(L.lotId))
-    for (const n of net) {
-      if (Number(n.qty) < 0) await moveStock(tx, { lotId: n.lotId, qty: -Number(n.qty), kind: 'return', userId: organiser.id, orderId: bag.orderId, bagId, reason: `Bag ${bag.code} unsealed: ${reason}`.slice(0, 255) })
-    }
+    await moveStockBatch(tx, net.filter(n => Number(n.qty) < 0)
+      .map(n => ({ lotId: n.lotId, qty: -Number(n.qty), kind: 'return' as const, userId: organiser.id, orderId: bag.orderId, bagId, reason: `Bag ${bag.code} unsealed: ${reason}`.slice(0, 255) })))
     await tx.execute(sql`update reservations r join orders o on o.id = r.order_id set r.state = 'confirmed'
       where r.order_id = ${bag.orderId} and r.state = 'consumed' and o.state = 'paid'`)
     await tx.insert(schema.bagEvents).values({ bagId, kind: 'unseal', userId: organiser.id, note: reason.slice(0, 255) })

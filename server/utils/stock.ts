@@ -44,6 +44,46 @@ export async function moveStock(tx: Tx, m: Movement) {
 }
 
 /**
+ * Writes many stock movements inside the caller's transaction in three statements whatever their number:
+ * one guarded update of every lot (never below zero; it takes the lots' row locks in id order, so two
+ * batches never wait on each other in a circle) and one insert of their ledger rows. The same guarantees
+ * as moveStock, one lot at a time, for seals and unseals that touch every lot of a kit. The row locks are
+ * held to the commit, so callers do this last in their transaction.
+ */
+export async function moveStockBatch(tx: Tx, moves: Movement[]) {
+  const byLot = new Map<number, Movement>()
+  for (const m of moves) {
+    if (!Number.isInteger(m.qty) || m.qty === 0) throw createError({ statusCode: 400, statusMessage: 'Invalid input', message: 'A movement needs a whole, non-zero quantity' })
+    if (byLot.has(m.lotId)) throw new Error(`moveStockBatch: lot ${m.lotId} appears twice`)
+    byLot.set(m.lotId, m)
+  }
+  if (!byLot.size) return
+  const ids = [...byLot.keys()].sort((a, b) => a - b)
+  // A lot's part and bin never change, so this plain read needs no lock.
+  const lots = await tx.select({ id: schema.lots.id, partId: schema.lots.partId, binId: schema.lots.binId }).from(schema.lots).where(inArray(schema.lots.id, ids))
+  const found = new Map(lots.map(l => [l.id, l]))
+  const missing = ids.find(id => !found.has(id))
+  if (missing !== undefined) throw createError({ statusCode: 404, statusMessage: 'Not found', message: `No lot ${missing}` })
+  const delta = sql`case ${schema.lots.id} ${sql.join(ids.map(id => sql`when ${id} then ${byLot.get(id)!.qty}`), sql` `)} end`
+  const [res] = await tx.update(schema.lots).set({ onHand: sql`${schema.lots.onHand} + ${delta}` })
+    .where(and(inArray(schema.lots.id, ids), sql`${schema.lots.onHand} + ${delta} >= 0`))
+  if (res.affectedRows !== ids.length) {
+    const now = await tx.select({ id: schema.lots.id, onHand: schema.lots.onHand, code: schema.bins.code }).from(schema.lots)
+      .innerJoin(schema.bins, eq(schema.bins.id, schema.lots.binId)).where(inArray(schema.lots.id, ids))
+    const short = now.find(l => l.onHand + byLot.get(l.id)!.qty < 0) ?? now[0]!
+    throw createError({ statusCode: 409, statusMessage: 'Not enough stock', message: `Bin ${short.code} holds only ${short.onHand} of lot ${short.id}; ${-byLot.get(short.id)!.qty} were asked for`, data: { lotId: short.id, onHand: short.onHand, asked: -byLot.get(short.id)!.qty } })
+  }
+  await tx.insert(schema.ledger).values(ids.map((id) => {
+    const m = byLot.get(id)!
+    const lot = found.get(id)!
+    return {
+      lotId: id, partId: lot.partId, binId: lot.binId, kind: m.kind, qty: m.qty, userId: m.userId,
+      reason: m.reason ?? null, orderId: m.orderId ?? null, bagId: m.bagId ?? null, reportId: m.reportId ?? null,
+    }
+  }))
+}
+
+/**
  * Available stock per part: on hand in every lot, minus reservations that are held or confirmed
  * (consumed reservations are already out of the lots; released ones count for nothing).
  */

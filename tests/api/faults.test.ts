@@ -130,13 +130,14 @@ describe('the app process is killed in the middle of a bag seal', () => {
       expect(res.body.sealed).toBe(false)
     }
 
-    // The seal moves stock lot by lot in part order; holding the second lot stops it after the bag
-    // row is marked sealed and the first pick is written (both uncommitted), at a known statement.
+    // The seal moves stock last, in one update of all its lots (locked in id order); holding the second
+    // lot stops it after the bag is marked sealed, the reservations consumed, the seal recorded and the
+    // first lot locked, all uncommitted, at a known statement.
     const release = await holdLocks('select id from lots where id = ? for update', [day.lotIds[1]])
     try {
       const last = items.at(-1)!
       const pending = scan({ text: signCode('bin', binCode, labelSecret), bagId: bag.id, itemId: last.id, qty: last.qty_needed }).catch(err => err)
-      await blockedOn(new RegExp(`^update \`lots\` .*\`lots\`.\`id\` = ${day.lotIds[1]}\\b`))
+      await blockedOn(new RegExp(`^update \`lots\` set \`on_hand\` = \`lots\`.\`on_hand\` \\+ case \`lots\`.\`id\` when ${day.lotIds[0]} then -2 `))
       await kill(app)
       expect(await pending).toBeInstanceOf(Error) // the packer's request dies with the process
     }

@@ -43,7 +43,7 @@ it('two packs of the last unit of a lot: the first seals its bag, the second is 
   await lock.query('select id from bags where id = ? for update', [b.id])
   const bScan = p2.post('/api/pack/scan', { text: signCode('bin', bin.code, secret), buildDayId: day.dayId, bagId: b.id, qty: 1 })
   await waitUntil('B to wait', async () => {
-    const [rows] = await conn.query<any[]>('select info, time_ms from information_schema.processlist where db = database() and info like ?', ['update `bags`%'])
+    const [rows] = await conn.query<any[]>('select info, time_ms from information_schema.processlist where db = database() and info like ?', ['update%bags%set%claimed_by%'])
     return rows.some((r: any) => Number(r.time_ms) > 200) || null
   })
   const aScan = await p1.post('/api/pack/scan', { text: signCode('bin', bin.code, secret), buildDayId: day.dayId, bagId: a.id, qty: 1 })
@@ -61,4 +61,9 @@ it('two packs of the last unit of a lot: the first seals its bag, the second is 
   expect(Number(packed.n)).toBe(0)
   const [[lot]] = await conn.query<any[]>('select on_hand from lots where id = ?', [day.lotIds[0]])
   expect(lot.on_hand).toBe(0)
+
+  // Leave the shared database as an organiser would: the unit found again on a count, so bag B's
+  // reservation is covered and the invariant checker (run by other files) finds nothing wrong.
+  await conn.query('update lots set on_hand = on_hand + 1 where id = ?', [day.lotIds[0]])
+  await conn.query('insert into ledger (lot_id, part_id, bin_id, kind, qty, user_id, reason) select id, part_id, bin_id, \'count\', 1, 1, \'race test: found on a count\' from lots where id = ?', [day.lotIds[0]])
 })
