@@ -10,7 +10,7 @@ import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import { runCheck } from '../../server/db/check'
 import { labelUrl, signCode } from '../../server/utils/codes'
 import { Client, DEMO } from '../support/client'
-import { startApp, type AppProcess } from '../support/stack'
+import { appDbUrl, startApp, type AppProcess } from '../support/stack'
 import { makeBag, openDb, type PackDb } from './packing-data'
 import { makeBuilders, makeKitDay, sessionIdOf, uid, waitUntil, type Conn } from './selling-fixtures'
 
@@ -28,7 +28,9 @@ let db: PackDb
 const started: AppProcess[] = []
 
 beforeAll(async () => {
-  const opened = await openDb(dbUrl)
+  // The app's own account and way in (the socket when KW_DB_SOCKET is set): the processlist shows a
+  // connection the statements of its own account only, and blockedOn() watches the app's.
+  const opened = await openDb(appDbUrl(dbUrl))
   conn = opened.conn
   db = opened.db
 })
@@ -300,8 +302,14 @@ describe('the database goes away for one app process', () => {
     const health = await anon.get('/api/health')
     expect(health.status).toBe(503)
     expect(health.body).toMatchObject({ ok: false, message: expect.stringMatching(/database/i) })
-    for (const res of [await builder.get('/api/my/orders'), await packer.get('/api/pack/progress'), await claim(), await anon.post('/api/auth/login', { email: DEMO.builder2, password: 'buildday-demo' })])
+    for (const res of [await builder.get('/api/my/orders'), await packer.get('/api/pack/progress'), await claim(), await anon.post('/api/auth/login', { email: DEMO.builder2, password: 'buildday-demo' })]) {
       expectCleanFailure(res)
+      // Said plainly, as "try again shortly" rather than a bare server error.
+      expect(res.status, JSON.stringify(res.body)).toBe(503)
+      expect(res.body.message).toMatch(/cannot reach its database.*try again/i)
+      expect(res.body.data).toEqual({ reason: 'database-unavailable' })
+      expect(res.headers.get('retry-after')).toBe('5')
+    }
     // The refused claim wrote nothing (read through the test's own connection, which is not cut).
     expect(await one('select state, claimed_by from bags where id = ?', [bag.id])).toEqual({ state: 'open', claimed_by: null })
     expect(await rows('select id from bag_events where bag_id = ?', [bag.id])).toEqual([])

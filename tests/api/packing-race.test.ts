@@ -3,6 +3,7 @@
 import { afterAll, beforeAll, expect, inject, it } from 'vitest'
 import { labelUrl, signCode } from '../../server/utils/codes'
 import { Client, DEMO } from '../support/client'
+import { appDbUrl } from '../support/stack'
 import { makeBag, openDb, type PackDb } from './packing-data'
 import { makeKitDay, uid, waitUntil, type Conn } from './selling-fixtures'
 
@@ -11,7 +12,8 @@ const secret = inject('labelSecret')
 let conn: Conn
 let db: PackDb
 beforeAll(async () => {
-  const o = await openDb(inject('dbUrl'))
+  // The app's own account (see appDbUrl): the processlist shows each account its own statements.
+  const o = await openDb(appDbUrl(inject('dbUrl')))
   conn = o.conn
   db = o.db
 })
