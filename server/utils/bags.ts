@@ -10,6 +10,7 @@ import type { Label } from './labels'
 import { loadEffectiveBom } from './revision-bom'
 import { availableByPart } from './stock'
 import type { Tx } from './db'
+import { preparedPer } from './prepared'
 
 // Explicit imports: the seed and the selling developer's webhook call these outside Nitro's auto-imports.
 
@@ -99,20 +100,6 @@ export const COUNTED_SINGLY: readonly string[] = ['ic', 'transistor', 'crystal',
 
 export type BagHeader = Awaited<ReturnType<typeof loadBagHeaders>>[number]
 
-/**
- * Drizzle builds a query's SQL text anew on every call, which for a wide select with joins costs
- * about half a millisecond of CPU. The packing station's hot reads are built once per database
- * handle with placeholders (prepared in Drizzle's sense: the text is kept, the values filled in).
- */
-function preparedPer<P>(make: (db: AnyDb) => P) {
-  const cache = new WeakMap<object, P>()
-  return (db: AnyDb) => {
-    let p = cache.get(db)
-    if (!p) cache.set(db, p = make(db))
-    return p
-  }
-}
-
 function bagHeaderQuery(db: AnyDb, lapseSeconds: number) {
   const B = schema.bags
   const claimer = alias(schema.users, 'claimer')
@@ -138,8 +125,8 @@ function bagHeaderQuery(db: AnyDb, lapseSeconds: number) {
 const headerPrepared = new Map<number, ReturnType<typeof preparedHeaders>>()
 function preparedHeaders(lapseSeconds: number) {
   return {
-    byId: preparedPer(db => bagHeaderQuery(db, lapseSeconds).where(eq(schema.bags.id, sql.placeholder('id'))).prepare()),
-    byCode: preparedPer(db => bagHeaderQuery(db, lapseSeconds).where(eq(schema.bags.code, sql.placeholder('code'))).prepare()),
+    byId: preparedPer((db: AnyDb) => bagHeaderQuery(db, lapseSeconds).where(eq(schema.bags.id, sql.placeholder('id'))).prepare()),
+    byCode: preparedPer((db: AnyDb) => bagHeaderQuery(db, lapseSeconds).where(eq(schema.bags.code, sql.placeholder('code'))).prepare()),
   }
 }
 
@@ -203,7 +190,7 @@ function bagItemQuery(db: AnyDb) {
     .leftJoin(standIn, eq(standIn.id, I.standInPartId))
 }
 const ITEM_ORDER = () => [asc(schema.bagItems.bagId), asc(schema.stages.sortOrder), asc(schema.bomLines.sortOrder), asc(schema.bagItems.id)]
-const itemsOfOneBag = preparedPer(db => bagItemQuery(db).where(eq(schema.bagItems.bagId, sql.placeholder('bagId'))).orderBy(...ITEM_ORDER()).prepare())
+const itemsOfOneBag = preparedPer((db: AnyDb) => bagItemQuery(db).where(eq(schema.bagItems.bagId, sql.placeholder('bagId'))).orderBy(...ITEM_ORDER()).prepare())
 
 /** A bag's items with their line, part, stage and any stand-in packed, in pouch (stage) order. */
 export async function loadBagItems(db: AnyDb, bagIds: number[]) {

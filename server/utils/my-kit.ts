@@ -1,4 +1,5 @@
 import type { Db } from './db'
+import { preparedPer } from './prepared'
 import { readScan } from './codes'
 import { pendingReworkOf } from './rework'
 import { partValueWays, type BomWorkbookInput, type WorkbookLine } from './workbook'
@@ -36,21 +37,24 @@ export function builderOrderStatus(orderState: string, bagState: string | null |
 }
 
 /** The builder's orders, newest first, with the kit, build day and bag state (expired holds left out). */
+const ordersOfBuilder = preparedPer((db: Db) => db.select({
+  order: tables.orders,
+  kit: { id: tables.kits.id, name: tables.kits.name, transmits: tables.kits.transmits },
+  revisionLabel: tables.revisions.label,
+  day: { id: tables.buildDays.id, name: tables.buildDays.name, date: tables.buildDays.date, venue: tables.buildDays.venue },
+  bag: { id: tables.bags.id, code: tables.bags.code, state: tables.bags.state, revisionId: tables.bags.revisionId, collectedAt: tables.bags.collectedAt },
+}).from(tables.orders)
+  .innerJoin(tables.offerings, eq(tables.offerings.id, tables.orders.offeringId))
+  .innerJoin(tables.revisions, eq(tables.revisions.id, tables.offerings.revisionId))
+  .innerJoin(tables.kits, eq(tables.kits.id, tables.revisions.kitId))
+  .innerJoin(tables.buildDays, eq(tables.buildDays.id, tables.orders.buildDayId))
+  .leftJoin(tables.bags, eq(tables.bags.orderId, tables.orders.id))
+  .where(and(eq(tables.orders.userId, sql.placeholder('userId')), ne(tables.orders.state, 'expired')))
+  .orderBy(desc(tables.orders.createdAt), desc(tables.orders.id))
+  .prepare())
+
 export async function listBuilderOrders(db: Db, userId: number) {
-  const rows = await db.select({
-    order: tables.orders,
-    kit: { id: tables.kits.id, name: tables.kits.name, transmits: tables.kits.transmits },
-    revisionLabel: tables.revisions.label,
-    day: { id: tables.buildDays.id, name: tables.buildDays.name, date: tables.buildDays.date, venue: tables.buildDays.venue },
-    bag: { id: tables.bags.id, code: tables.bags.code, state: tables.bags.state, revisionId: tables.bags.revisionId, collectedAt: tables.bags.collectedAt },
-  }).from(tables.orders)
-    .innerJoin(tables.offerings, eq(tables.offerings.id, tables.orders.offeringId))
-    .innerJoin(tables.revisions, eq(tables.revisions.id, tables.offerings.revisionId))
-    .innerJoin(tables.kits, eq(tables.kits.id, tables.revisions.kitId))
-    .innerJoin(tables.buildDays, eq(tables.buildDays.id, tables.orders.buildDayId))
-    .leftJoin(tables.bags, eq(tables.bags.orderId, tables.orders.id))
-    .where(and(eq(tables.orders.userId, userId), ne(tables.orders.state, 'expired')))
-    .orderBy(desc(tables.orders.createdAt), desc(tables.orders.id))
+  const rows = await ordersOfBuilder(db).execute({ userId })
   const optionIds = [...new Set(rows.flatMap(r => r.order.optionIds ?? []))]
   const bagRevisionIds = [...new Set(rows.map(r => r.bag?.revisionId).filter((x): x is number => x != null))]
   const [opts, revs] = await Promise.all([
@@ -99,37 +103,51 @@ function unknownPart(id: number): BagPartView {
  * One bag with its order, kit and contents grouped by stage. `ownerId` limits it to that
  * builder's bags (another builder's bag is a 404, as if it did not exist); null for the desk.
  */
-export async function loadBagForBuilder(db: Db, bagId: number, ownerId: number | null) {
-  const [row] = await db.select({
-    bag: tables.bags, order: tables.orders,
-    revision: { id: tables.revisions.id, label: tables.revisions.label },
-    kit: { id: tables.kits.id, name: tables.kits.name, transmits: tables.kits.transmits },
-    day: { id: tables.buildDays.id, name: tables.buildDays.name, date: tables.buildDays.date, venue: tables.buildDays.venue },
-    builder: { id: tables.users.id, name: tables.users.name, email: tables.users.email, callsign: tables.users.callsign },
-  }).from(tables.bags)
-    .innerJoin(tables.orders, eq(tables.orders.id, tables.bags.orderId))
-    .innerJoin(tables.revisions, eq(tables.revisions.id, tables.bags.revisionId))
-    .innerJoin(tables.kits, eq(tables.kits.id, tables.revisions.kitId))
-    .innerJoin(tables.buildDays, eq(tables.buildDays.id, tables.bags.buildDayId))
-    .innerJoin(tables.users, eq(tables.users.id, tables.orders.userId))
-    .where(and(eq(tables.bags.id, bagId), ownerId == null ? undefined : eq(tables.orders.userId, ownerId)))
-  if (!row) throw createError({ statusCode: 404, statusMessage: 'Not found', message: 'No such bag among your orders' })
+const bagHeaderForBuilder = preparedPer((db: Db) => db.select({
+  bag: tables.bags, order: tables.orders,
+  revision: { id: tables.revisions.id, label: tables.revisions.label },
+  kit: { id: tables.kits.id, name: tables.kits.name, transmits: tables.kits.transmits },
+  day: { id: tables.buildDays.id, name: tables.buildDays.name, date: tables.buildDays.date, venue: tables.buildDays.venue },
+  builder: { id: tables.users.id, name: tables.users.name, email: tables.users.email, callsign: tables.users.callsign },
+}).from(tables.bags)
+  .innerJoin(tables.orders, eq(tables.orders.id, tables.bags.orderId))
+  .innerJoin(tables.revisions, eq(tables.revisions.id, tables.bags.revisionId))
+  .innerJoin(tables.kits, eq(tables.kits.id, tables.revisions.kitId))
+  .innerJoin(tables.buildDays, eq(tables.buildDays.id, tables.bags.buildDayId))
+  .innerJoin(tables.users, eq(tables.users.id, tables.orders.userId))
+  .where(eq(tables.bags.id, sql.placeholder('bagId')))
+  .prepare())
 
-  const items = await db.select({
-    item: tables.bagItems,
-    designators: tables.bomLines.designators, notes: tables.bomLines.notes, lineOrder: tables.bomLines.sortOrder,
-    stageName: tables.stages.name, stageOrder: tables.stages.sortOrder,
-  }).from(tables.bagItems)
-    .innerJoin(tables.bomLines, eq(tables.bomLines.id, tables.bagItems.lineId))
-    .leftJoin(tables.stages, eq(tables.stages.id, tables.bagItems.stageId))
-    .where(eq(tables.bagItems.bagId, bagId))
-  const partIds = [...new Set(items.flatMap(i => [i.item.partId, i.item.standInPartId]).filter((x): x is number => x != null))]
-  const partRows = partIds.length
-    ? await db.select({
-      id: tables.parts.id, name: tables.parts.name, kind: tables.parts.kind, value: tables.parts.value, unit: tables.parts.unit, valueText: tables.parts.valueText,
-      tolerancePct: tables.parts.tolerancePct, mounting: tables.parts.mounting, dielectric: tables.parts.dielectric, package: tables.parts.package, pinoutNote: tables.parts.pinoutNote,
-    }).from(tables.parts).where(inArray(tables.parts.id, partIds))
-    : []
+// The bag's own rows first (the index hint), its lines and stages by their keys; the parts' rows by id.
+const bagItemsForBuilder = preparedPer((db: Db) => db.select({
+  item: tables.bagItems,
+  designators: tables.bomLines.designators, notes: tables.bomLines.notes, lineOrder: tables.bomLines.sortOrder,
+  stageName: tables.stages.name, stageOrder: tables.stages.sortOrder,
+}).from(tables.bagItems, { forceIndex: 'bag_items_bag_idx' })
+  .innerJoin(tables.bomLines, eq(tables.bomLines.id, tables.bagItems.lineId))
+  .leftJoin(tables.stages, eq(tables.stages.id, tables.bagItems.stageId))
+  .where(eq(tables.bagItems.bagId, sql.placeholder('bagId')))
+  .prepare())
+
+/** The parts of a bag's lines and of the stand-ins packed (a small derived table, then parts by key). */
+async function partsOfBag(db: Db, bagId: number) {
+  const [rows] = await db.execute(sql`select p.id, p.name, p.kind, p.value, p.unit, p.value_text as valueText, p.tolerance_pct as tolerancePct,
+      p.mounting, p.dielectric, p.package, p.pinout_note as pinoutNote
+    from (select i.part_id as id from bag_items i where i.bag_id = ${bagId}
+      union select i.stand_in_part_id from bag_items i where i.bag_id = ${bagId} and i.stand_in_part_id is not null) x
+    join parts p on p.id = x.id`)
+  return rows as unknown as BagPartView[]
+}
+
+export async function loadBagForBuilder(db: Db, bagId: number, ownerId: number | null) {
+  // The owner check is in code, after one keyed read: another builder's bag is "not found" all the same.
+  const [[found], items, partRows] = await Promise.all([
+    bagHeaderForBuilder(db).execute({ bagId }),
+    bagItemsForBuilder(db).execute({ bagId }),
+    partsOfBag(db, bagId),
+  ])
+  const row = found && (ownerId == null || found.order.userId === ownerId) ? found : undefined
+  if (!row) throw createError({ statusCode: 404, statusMessage: 'Not found', message: 'No such bag among your orders' })
   const partOf = new Map(partRows.map(p => [p.id, p]))
   const options = row.order.optionIds?.length
     ? await db.select({ id: tables.options.id, name: tables.options.name }).from(tables.options).where(inArray(tables.options.id, row.order.optionIds))
