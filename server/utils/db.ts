@@ -24,9 +24,23 @@ export function useDb(): Db {
   return db
 }
 
-/** Closes the pool (server shutdown). */
+let batchPool: mysql.Pool | undefined
+
+/**
+ * A small second pool whose connections accept several statements in one round trip, for the one
+ * place that needs it: the packing station's pack, whose whole transaction goes to MariaDB at once
+ * (each round trip costs the app and the database a system call and a wake-up; a scan made nine).
+ * Only fixed SQL text with `?` parameters goes through it; everything else uses useDb().
+ */
+export function useBatchPool(): mysql.Pool {
+  batchPool ??= mysql.createPool({ uri: useRuntimeConfig().databaseUrl, connectionLimit: Number(process.env.KW_DB_BATCH_POOL || 10), timezone: 'Z', dateStrings: ['DATE'], decimalNumbers: true, trace: false, multipleStatements: true })
+  return batchPool
+}
+
+/** Closes the pools (server shutdown). */
 export async function closeDb() {
-  await pool?.end()
+  await Promise.all([pool?.end(), batchPool?.end()])
   pool = undefined
+  batchPool = undefined
   db = undefined
 }

@@ -6,7 +6,7 @@ import { bagSwapPart, bagTotals, COUNTED_SINGLY, loadBagHeaders, loadBagItems, l
 import { isBagCode, looksLikeBareCode, readScan } from './codes'
 import { SHEET_LAYOUTS, validateLayout, type SheetLayout } from './labels'
 import { moveStockBatch } from './stock'
-import type { Db, Tx } from './db'
+import { useBatchPool, type Db, type Tx } from './db'
 
 /** A claim on a bag lapses after this long without a scan (KW_CLAIM_MINUTES, default 10). */
 export const CLAIM_LAPSE_SECONDS = Math.max(30, Math.round(Number(process.env.KW_CLAIM_MINUTES || 10) * 60))
@@ -167,10 +167,15 @@ async function claim(tx: Tx, bagId: number, userId: number) {
   const [res] = await tx.execute(sql`update bags set claimed_by = ${userId}, claimed_at = now(), state = 'packing'
     where id = ${bagId} and state in ('open', 'packing') and (claimed_by is null or claimed_by = ${userId} or claimed_at < now() - interval ${CLAIM_LAPSE_SECONDS} second)`)
   if ((res as unknown as { affectedRows: number }).affectedRows === 1) return
-  const [h] = await loadBagHeaders(tx as unknown as Db, { ids: [bagId] }, CLAIM_LAPSE_SECONDS)
-  if (!h) throw refuse(404, 'unknown', 'There is no such bag')
-  if (h.state === 'sealed' || h.state === 'collected') throw refuse(409, 'sealed', `Bag ${h.code} has just been sealed`, { bagId })
-  throw claimedBy(h.code, h.claim?.name ?? 'Another packer')
+  throw await claimRefusal(tx as unknown as Db, bagId)
+}
+
+/** Why a bag cannot be claimed now: gone, just sealed, or another packer's. */
+async function claimRefusal(db: Db, bagId: number) {
+  const [h] = await loadBagHeaders(db, { ids: [bagId] }, CLAIM_LAPSE_SECONDS)
+  if (!h) return refuse(404, 'unknown', 'There is no such bag')
+  if (h.state === 'sealed' || h.state === 'collected') return refuse(409, 'sealed', `Bag ${h.code} has just been sealed`, { bagId })
+  return claimedBy(h.code, h.claim?.name ?? 'Another packer')
 }
 
 /** A packer packs one bag at a time: claiming one lets go of the others (back to "not started" when nothing is in them). */
@@ -237,29 +242,11 @@ async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
     throw refuse(409, 'over-count', `${pick.item.designators} needs ${remaining} more; ${qty} is too many. Put back ${qty - remaining}.`, { itemId: pick.item.itemId, remaining })
 
   const lot = chooseLot(bin.lots.filter(l => l.partId === pick.partId), qty, code, pick.partName)
-  const done = await db.transaction(async (tx) => {
-    // The bag's row lock (the claim) serialises every write to this bag. Plain SQL throughout: this
-    // is the packing station's hottest path, and Drizzle's builder costs more CPU than these statements.
-    await claim(tx, h.id, packer.id)
-    const standIn = pick.standIn ? { partId: pick.partId, warning: pick.standIn.warning?.slice(0, 255) ?? null } : null
-    const [res] = await tx.execute(sql`update bag_items set qty_packed = qty_packed + ${qty}
-      ${standIn ? sql`, stand_in_part_id = ${standIn.partId}, stand_in_warning = ${standIn.warning}` : sql``}
-      where id = ${pick.item.itemId} and bag_id = ${h.id} and qty_packed + ${qty} <= qty_needed`)
-    if ((res as unknown as { affectedRows: number }).affectedRows !== 1)
-      throw refuse(409, 'over-count', `${pick.item.designators} was packed meanwhile: ${qty} more would be too many`, { itemId: pick.item.itemId })
-    const [ev] = await tx.execute(sql`insert into bag_events (bag_id, bag_item_id, kind, lot_id, bin_id, part_id, qty, user_id, note)
-      values (${h.id}, ${pick.item.itemId}, 'pack', ${lot.id}, ${bin.id}, ${pick.partId}, ${qty}, ${packer.id}, ${pick.standIn ? 'stand-in' : null})`)
-    const [now] = await tx.execute(sql`select qty_packed as qtyPacked from bag_items where id = ${pick.item.itemId}`) as unknown as [{ qtyPacked: number }[]]
-    // Two packers may have chosen the same last units of this lot. Take the lot's row lock as late as
-    // possible (it is held to the commit, and every packer of this kit wants it), then count again under
-    // it: read committed, so a pack the other committed meanwhile is counted, as is this one.
-    const [locked] = await tx.execute(sql`select on_hand as onHand from lots where id = ${lot.id} for update`) as unknown as [{ onHand: number }[]]
-    const onHand = locked[0] ? Number(locked[0].onHand) : 0
-    const held = (await pendingWhere(tx as unknown as Parameters<typeof pendingWhere>[0], sql`l.id = ${lot.id}`)).get(lot.id) ?? 0
-    if (!locked[0] || onHand - held < 0)
-      throw refuse(409, 'bin-short', `Bin ${code} has only ${Math.max(0, onHand - (held - qty))} × ${pick.partName} left on the books (counting parts already in unsealed bags): count the bin or use another`)
-    return { eventId: (ev as unknown as { insertId: number }).insertId, qtyPacked: Number(now[0]!.qtyPacked) }
-  }, { isolationLevel: 'read committed' })
+  const done = await packInOneTrip(db, { bagId: h.id, itemId: pick.item.itemId, lotId: lot.id, binId: bin.id, partId: pick.partId, qty, userId: packer.id,
+    standIn: pick.standIn ? { warning: pick.standIn.warning?.slice(0, 255) ?? null } : null }, {
+    overCount: () => refuse(409, 'over-count', `${pick.item.designators} was packed meanwhile: ${qty} more would be too many`, { itemId: pick.item.itemId }),
+    binShort: (left: number) => refuse(409, 'bin-short', `Bin ${code} has only ${Math.max(0, left)} × ${pick.partName} left on the books (counting parts already in unsealed bags): count the bin or use another`),
+  })
   const item = {
     itemId: pick.item.itemId, qtyPacked: done.qtyPacked,
     standInPartId: pick.standIn ? pick.partId : pick.item.standInPartId,
@@ -269,6 +256,72 @@ async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
   const totals = bagTotals(items.map(i => (i.itemId === item.itemId ? { ...i, qtyPacked: item.qtyPacked } : i)))
   const lastPack = { id: done.eventId, qty, itemId: item.itemId, binCode: code, partName: pick.partName }
   return packed(db, h.id, packer, { itemId: pick.item.itemId, designators: pick.item.designators, qty, binCode: code, partName: pick.partName, standIn: pick.standIn }, { item, totals, lastPack })
+}
+
+interface PackWrite { bagId: number, itemId: number, lotId: number, binId: number, partId: number, qty: number, userId: number, standIn: { warning: string | null } | null }
+
+/**
+ * One pack as one transaction in two round trips: every statement goes to MariaDB at once, then a
+ * commit or a rollback once their results are read. In order: claim (or renew the claim on) the bag,
+ * whose row lock serialises every write to it; add to the line, never beyond what it needs; record
+ * the scan; read the line back; then, as late as possible because every packer of this kit wants it,
+ * lock the lot and count what unsealed bags hold of it. Read committed, and a new statement after the
+ * lock, so a pack another packer committed meanwhile is counted, as is this one.
+ */
+async function packInOneTrip(db: Db, w: PackWrite, refusals: { overCount: () => Error, binShort: (left: number) => Error }) {
+  const conn = await useBatchPool().getConnection()
+  let open = true
+  let destroyed = false
+  try {
+    const [results] = await conn.query(`set transaction isolation level read committed;
+start transaction;
+update bags set claimed_by = ?, claimed_at = now(), state = 'packing'
+  where id = ? and state in ('open', 'packing') and (claimed_by is null or claimed_by = ? or claimed_at < now() - interval ? second);
+update bag_items set qty_packed = qty_packed + ?${w.standIn ? ', stand_in_part_id = ?, stand_in_warning = ?' : ''}
+  where id = ? and bag_id = ? and qty_packed + ? <= qty_needed;
+insert into bag_events (bag_id, bag_item_id, kind, lot_id, bin_id, part_id, qty, user_id, note) values (?, ?, 'pack', ?, ?, ?, ?, ?, ?);
+select qty_packed as qtyPacked from bag_items where id = ?;
+select on_hand as onHand from lots where id = ? for update;
+select cast(coalesce(sum(e.qty), 0) as signed) as held from bag_events e join bags b on b.id = e.bag_id
+  where e.lot_id = ? and e.kind = 'pack' and e.undone = 0 and b.state in ('open', 'packing');`, [
+      w.userId, w.bagId, w.userId, CLAIM_LAPSE_SECONDS,
+      w.qty, ...(w.standIn ? [w.partId, w.standIn.warning] : []), w.itemId, w.bagId, w.qty,
+      w.bagId, w.itemId, w.lotId, w.binId, w.partId, w.qty, w.userId, w.standIn ? 'stand-in' : null,
+      w.itemId, w.lotId, w.lotId,
+    ]) as unknown as [[unknown, unknown, { affectedRows: number }, { affectedRows: number }, { insertId: number }, { qtyPacked: number }[], { onHand: number }[], { held: number }[]]]
+    const [, , claimed, added, event, packedRows, lotRows, heldRows] = results
+    const refusal = claimed.affectedRows !== 1 ? 'claim'
+      : added.affectedRows !== 1 ? refusals.overCount()
+        : !lotRows[0] || Number(lotRows[0].onHand) - Number(heldRows[0]!.held) < 0
+          ? refusals.binShort(Number(lotRows[0]?.onHand ?? 0) - (Number(heldRows[0]!.held) - w.qty))
+          : null
+    if (refusal) {
+      await conn.query('rollback')
+      open = false
+      // The claim was fine when the scan was read; someone took or sealed the bag since: say which.
+      throw refusal === 'claim' ? await claimRefusal(db, w.bagId) : refusal
+    }
+    await conn.query('commit')
+    open = false
+    return { eventId: Number(event.insertId), qtyPacked: Number(packedRows[0]!.qtyPacked) }
+  }
+  catch (err) {
+    if (open) {
+      // A failed statement leaves the transaction open on this connection: end it before the pool
+      // hands the connection out again, or drop the connection when that fails too.
+      try {
+        await conn.query('rollback')
+      }
+      catch {
+        conn.destroy()
+        destroyed = true
+      }
+    }
+    throw err
+  }
+  finally {
+    if (!destroyed) conn.release()
+  }
 }
 
 function countsSingly(item: BagItemRow) {

@@ -45,7 +45,7 @@ it('two packs of the last unit of a lot: the first seals its bag, the second is 
   await lock.query('select id from bags where id = ? for update', [b.id])
   const bScan = p2.post('/api/pack/scan', { text: signCode('bin', bin.code, secret), buildDayId: day.dayId, bagId: b.id, qty: 1 })
   await waitUntil('B to wait', async () => {
-    const [rows] = await conn.query<any[]>('select info, time_ms from information_schema.processlist where db = database() and info like ?', ['update%bags%set%claimed_by%'])
+    const [rows] = await conn.query<any[]>('select info, time_ms from information_schema.processlist where db = database() and info like ?', ['%update bags set claimed_by%'])
     return rows.some((r: any) => Number(r.time_ms) > 200) || null
   })
   const aScan = await p1.post('/api/pack/scan', { text: signCode('bin', bin.code, secret), buildDayId: day.dayId, bagId: a.id, qty: 1 })
