@@ -11,12 +11,14 @@ export function useApiForm() {
   const pending = ref(false)
   const error = ref('')
   const fields = ref<Record<string, string>>({})
-  async function run<T>(fn: () => Promise<T>): Promise<T | undefined> {
+  // Typed from the callback, not as `() => Promise<T>`: inferring T back through Nitro's typed $fetch
+  // routes from that contextual type goes past the type checker's stack depth.
+  async function run<F extends () => unknown>(fn: F): Promise<Awaited<ReturnType<F>> | undefined> {
     pending.value = true
     error.value = ''
     fields.value = {}
     try {
-      return await fn()
+      return await fn() as Awaited<ReturnType<F>>
     }
     catch (err) {
       const e = apiErrorOf(err)
