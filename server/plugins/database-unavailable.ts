@@ -20,6 +20,6 @@ export default defineNitroPlugin((nitroApp) => {
     err.data = { reason: 'database-unavailable' }
     err.unhandled = false
     err.fatal = false
-    setResponseHeader(event, 'Retry-After', '5')
+    setResponseHeader(event, 'Retry-After', 5)
   })
 })
