@@ -218,6 +218,18 @@ async function binWithLots(db: Db, code: string) {
 type BinLot = NonNullable<Awaited<ReturnType<typeof binWithLots>>>['lots'][number]
 
 async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
+  try {
+    return await scanBinOnce(db, packer, code, input)
+  }
+  catch (err) {
+    // Another packer took the chosen lot's last free parts between our read and our lock: read again,
+    // once, so a bin with another lot of the part packs from that one instead of being refused.
+    if ((err as { data?: { raced?: boolean } }).data?.raced) return await scanBinOnce(db, packer, code, input)
+    throw err
+  }
+}
+
+async function scanBinOnce(db: Db, packer: Packer, code: string, input: ScanInput) {
   if (!input.bagId) throw refuse(409, 'no-bag', `That is bin ${code}: scan a bag's label first`)
   const bagId = input.bagId
   const [[h], bin, items] = await Promise.all([
@@ -245,7 +257,7 @@ async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
   const done = await packInOneTrip(db, { bagId: h.id, itemId: pick.item.itemId, lotId: lot.id, binId: bin.id, partId: pick.partId, qty, userId: packer.id,
     standIn: pick.standIn ? { warning: pick.standIn.warning?.slice(0, 255) ?? null } : null }, {
     overCount: () => refuse(409, 'over-count', `${pick.item.designators} was packed meanwhile: ${qty} more would be too many`, { itemId: pick.item.itemId }),
-    binShort: (left: number) => refuse(409, 'bin-short', `Bin ${code} has only ${Math.max(0, left)} × ${pick.partName} left on the books (counting parts already in unsealed bags): count the bin or use another`),
+    binShort: (left: number) => refuse(409, 'bin-short', `Bin ${code} has only ${Math.max(0, left)} × ${pick.partName} left on the books (counting parts already in unsealed bags): count the bin or use another`, { raced: true }),
   })
   const item = {
     itemId: pick.item.itemId, qtyPacked: done.qtyPacked,
@@ -261,54 +273,56 @@ async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
 interface PackWrite { bagId: number, itemId: number, lotId: number, binId: number, partId: number, qty: number, userId: number, standIn: { warning: string | null } | null }
 
 /**
- * One pack as one transaction in two round trips: every statement goes to MariaDB at once, then a
- * commit or a rollback once their results are read. In order: claim (or renew the claim on) the bag,
- * whose row lock serialises every write to it; add to the line, never beyond what it needs; record
- * the scan; read the line back; then, as late as possible because every packer of this kit wants it,
- * lock the lot and count what unsealed bags hold of it. Read committed, and a new statement after the
- * lock, so a pack another packer committed meanwhile is counted, as is this one.
+ * One pack as one transaction in one round trip: the statements go to MariaDB together and end with
+ * the commit, so no row lock waits on this process between statements (every packer of a kit wants
+ * the same lots, and a seal wants all of them). In order: claim (or renew the claim on) the bag, whose
+ * row lock serialises every write to it; lock the lot and count what unsealed bags hold of it (read
+ * committed and a new statement after the lock, so a pack another packer committed meanwhile is
+ * counted); then add to the line only if the claim held, the lot has the parts free and the line
+ * needs them, and record the scan only if the line was added to. Session variables carry each
+ * outcome to the next statement and back to us; they are reset first, since connections are reused.
  */
 async function packInOneTrip(db: Db, w: PackWrite, refusals: { overCount: () => Error, binShort: (left: number) => Error }) {
   const conn = await useBatchPool().getConnection()
-  let open = true
   let destroyed = false
   try {
-    const [results] = await conn.query(`set transaction isolation level read committed;
+    const [results] = await conn.query(`set @kw_claimed = 0, @kw_on_hand = null, @kw_held = 0, @kw_added = 0, @kw_event = null;
+set transaction isolation level read committed;
 start transaction;
 update bags set claimed_by = ?, claimed_at = now(), state = 'packing'
   where id = ? and state in ('open', 'packing') and (claimed_by is null or claimed_by = ? or claimed_at < now() - interval ? second);
+set @kw_claimed = row_count();
+select on_hand into @kw_on_hand from lots where id = ? for update;
+select coalesce(sum(e.qty), 0) into @kw_held from bag_events e join bags b on b.id = e.bag_id
+  where e.lot_id = ? and e.kind = 'pack' and e.undone = 0 and b.state in ('open', 'packing');
 update bag_items set qty_packed = qty_packed + ?${w.standIn ? ', stand_in_part_id = ?, stand_in_warning = ?' : ''}
-  where id = ? and bag_id = ? and qty_packed + ? <= qty_needed;
-insert into bag_events (bag_id, bag_item_id, kind, lot_id, bin_id, part_id, qty, user_id, note) values (?, ?, 'pack', ?, ?, ?, ?, ?, ?);
-select qty_packed as qtyPacked from bag_items where id = ?;
-select on_hand as onHand from lots where id = ? for update;
-select cast(coalesce(sum(e.qty), 0) as signed) as held from bag_events e join bags b on b.id = e.bag_id
-  where e.lot_id = ? and e.kind = 'pack' and e.undone = 0 and b.state in ('open', 'packing');`, [
+  where id = ? and bag_id = ? and qty_packed + ? <= qty_needed and @kw_claimed = 1 and @kw_on_hand - @kw_held >= ?;
+set @kw_added = row_count();
+insert into bag_events (bag_id, bag_item_id, kind, lot_id, bin_id, part_id, qty, user_id, note)
+  select ?, ?, 'pack', ?, ?, ?, ?, ?, ? from dual where @kw_added = 1;
+set @kw_event = if(@kw_added = 1, last_insert_id(), null);
+commit;
+select @kw_claimed as claimed, @kw_added as added, @kw_on_hand as onHand, @kw_held as held, @kw_event as eventId,
+  (select qty_packed from bag_items where id = ?) as qtyPacked;`, [
       w.userId, w.bagId, w.userId, CLAIM_LAPSE_SECONDS,
-      w.qty, ...(w.standIn ? [w.partId, w.standIn.warning] : []), w.itemId, w.bagId, w.qty,
+      w.lotId, w.lotId,
+      w.qty, ...(w.standIn ? [w.partId, w.standIn.warning] : []), w.itemId, w.bagId, w.qty, w.qty,
       w.bagId, w.itemId, w.lotId, w.binId, w.partId, w.qty, w.userId, w.standIn ? 'stand-in' : null,
-      w.itemId, w.lotId, w.lotId,
-    ]) as unknown as [[unknown, unknown, { affectedRows: number }, { affectedRows: number }, { insertId: number }, { qtyPacked: number }[], { onHand: number }[], { held: number }[]]]
-    const [, , claimed, added, event, packedRows, lotRows, heldRows] = results
-    const refusal = claimed.affectedRows !== 1 ? 'claim'
-      : added.affectedRows !== 1 ? refusals.overCount()
-        : !lotRows[0] || Number(lotRows[0].onHand) - Number(heldRows[0]!.held) < 0
-          ? refusals.binShort(Number(lotRows[0]?.onHand ?? 0) - (Number(heldRows[0]!.held) - w.qty))
-          : null
-    if (refusal) {
-      await conn.query('rollback')
-      open = false
-      // The claim was fine when the scan was read; someone took or sealed the bag since: say which.
-      throw refusal === 'claim' ? await claimRefusal(db, w.bagId) : refusal
-    }
-    await conn.query('commit')
-    open = false
-    return { eventId: Number(event.insertId), qtyPacked: Number(packedRows[0]!.qtyPacked) }
+      w.itemId,
+    ]) as unknown as [unknown[]]
+    const out = (results.at(-1) as { claimed: number | string, added: number | string, onHand: number | string | null, held: number | string, eventId: number | string | null, qtyPacked: number | string | null }[])[0]!
+    if (Number(out.added) === 1) return { eventId: Number(out.eventId), qtyPacked: Number(out.qtyPacked) }
+    // Nothing was written (or only the claim renewed): say why.
+    if (Number(out.claimed) !== 1) throw await claimRefusal(db, w.bagId)
+    const free = out.onHand == null ? 0 : Number(out.onHand) - Number(out.held)
+    if (free < w.qty) throw refusals.binShort(free)
+    throw refusals.overCount()
   }
   catch (err) {
-    if (open) {
-      // A failed statement leaves the transaction open on this connection: end it before the pool
-      // hands the connection out again, or drop the connection when that fails too.
+    // A statement that failed leaves the transaction open on this connection (the rest of the batch,
+    // commit included, did not run): end it before the pool hands the connection out again, or drop
+    // the connection when that fails too.
+    if ((err as { statusCode?: number }).statusCode === undefined) {
       try {
         await conn.query('rollback')
       }

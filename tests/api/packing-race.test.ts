@@ -69,3 +69,46 @@ it('two packs of the last unit of a lot: the first seals its bag, the second is 
   await conn.query('update lots set on_hand = on_hand + 1 where id = ?', [day.lotIds[0]])
   await conn.query('insert into ledger (lot_id, part_id, bin_id, kind, qty, user_id, reason) select id, part_id, bin_id, \'count\', 1, 1, \'race test: found on a count\' from lots where id = ?', [day.lotIds[0]])
 })
+
+it('a pack waiting on the lot counts the pack that held the lot before it, committed meanwhile', async () => {
+  // One unit left for two bags, as above; this time bag B's pack is the one already holding the lot.
+  const day = await makeKitDay(conn, { seats: 5, lines: [{ qty: 1, stock: 2 }] })
+  const a = await paidBag(day.dayId, day.offeringId)
+  const b = await paidBag(day.dayId, day.offeringId)
+  const lotId = day.lotIds[0]!
+  await conn.query('update lots set on_hand = on_hand - 1 where id = ?', [lotId])
+  await conn.query('insert into ledger (lot_id, part_id, bin_id, kind, qty, user_id, reason) select id, part_id, bin_id, \'scrap\', -1, 1, \'race test\' from lots where id = ?', [lotId])
+  const [[lot]] = await conn.query<any[]>('select l.part_id, l.bin_id, b.code from lots l join bins b on b.id = l.bin_id where l.id = ?', [lotId])
+  const [[itemB]] = await conn.query<any[]>('select id from bag_items where bag_id = ?', [b.id])
+  const p1 = await new Client(base).login(DEMO.packer)
+  expect((await p1.post('/api/pack/scan', { text: labelUrl(base, 'bag', a.code, secret), buildDayId: day.dayId })).status).toBe(200)
+
+  // The "other packer" holds the lot's row lock in a transaction of its own...
+  const { conn: other } = await openDb(appDbUrl(inject('dbUrl')))
+  await other.query('set transaction isolation level read committed')
+  await other.query('start transaction')
+  await other.query('select id from lots where id = ? for update', [lotId])
+  const aScan = p1.post('/api/pack/scan', { text: signCode('bin', lot.code, secret), buildDayId: day.dayId, bagId: a.id, qty: 1 })
+  await waitUntil('A to wait for the lot', async () => {
+    const [rows] = await conn.query<any[]>('select info, time_ms from information_schema.processlist where db = database() and info like ?', ['%from lots where id%for update%'])
+    return rows.some((r: any) => !/^select id from lots/.test(r.info) && Number(r.time_ms) > 200) || null
+  })
+  // ...and packs the last unit into bag B, then commits: A's pack, waiting on the lock, must count it.
+  await other.query('update bags set state = \'packing\' where id = ?', [b.id])
+  await other.query('update bag_items set qty_packed = 1 where id = ?', [itemB.id])
+  await other.query('insert into bag_events (bag_id, bag_item_id, kind, lot_id, bin_id, part_id, qty, user_id) values (?, ?, \'pack\', ?, ?, ?, 1, 1)', [b.id, itemB.id, lotId, lot.bin_id, lot.part_id])
+  await other.query('commit')
+  await other.end()
+  const res = await aScan
+
+  expect(res.status, JSON.stringify(res.body)).toBe(409)
+  expect(res.body.data.reason).toBe('bin-short')
+  const [[packed]] = await conn.query<any[]>('select cast(sum(qty_packed) as signed) as n from bag_items where bag_id = ?', [a.id])
+  expect(Number(packed.n)).toBe(0)
+  const [[events]] = await conn.query<any[]>('select count(*) as n from bag_events where bag_id = ? and kind = \'pack\'', [a.id])
+  expect(Number(events.n)).toBe(0)
+
+  // Leave the shared database consistent: the scrapped unit found again on a count.
+  await conn.query('update lots set on_hand = on_hand + 1 where id = ?', [lotId])
+  await conn.query('insert into ledger (lot_id, part_id, bin_id, kind, qty, user_id, reason) select id, part_id, bin_id, \'count\', 1, 1, \'race test: found on a count\' from lots where id = ?', [lotId])
+})
