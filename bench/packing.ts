@@ -10,7 +10,7 @@ import { renderLabels, SHEET_LAYOUTS } from '../server/utils/labels'
 import { makeBuildDay, makePaidBag, openDb, stockLedgerMismatches, type PackDb } from '../tests/api/packing-data'
 import { Client } from '../tests/support/client'
 import { startStack } from '../tests/support/stack'
-import { cpuMeter, type Cpu } from './cpu'
+import { cpuMeter, yieldToServer, type Cpu } from './cpu'
 
 const PACKERS = Number(process.env.KW_BENCH_PACKERS || 20)
 const SECONDS = Number(process.env.KW_BENCH_SECONDS || 30)
@@ -140,6 +140,7 @@ async function labelTiming(db: PackDb, base: string, secret: string, dayId: numb
 async function main() {
   console.log(`Packing bench: ${PACKERS} packers for ${SECONDS} s; starting a stack of its own…`)
   const stack = await startStack('bench')
+  console.log(yieldToServer())
   const { conn, db } = await openDb(stack.dbUrl)
   try {
     const dayId = await makeBuildDay(db, 'Bench build day')

@@ -1,4 +1,4 @@
-import { and, asc, desc, eq, inArray, isNotNull, isNull, or, sql } from 'drizzle-orm'
+import { and, asc, desc, eq, inArray, isNull, sql } from 'drizzle-orm'
 import { createError, setResponseHeader, setResponseHeaders, setResponseStatus, type H3Event } from 'h3'
 import { z } from 'zod'
 import * as schema from '../db/schema'
@@ -25,9 +25,9 @@ export interface ScanInput { text: string, buildDayId: number, bagId?: number, i
 export type BagView = Awaited<ReturnType<typeof bagView>>
 
 /** The bag as the station shows it: header, pouches with lines and suggested bins, totals, the scan undo would take back. */
-export async function bagView(db: Db, bagId: number) {
+export async function bagView(db: Db, bagId: number, known?: Header) {
   const [[bag], items, stock, lastPack] = await Promise.all([
-    loadBagHeaders(db, { ids: [bagId] }, CLAIM_LAPSE_SECONDS),
+    known ? [known] : loadBagHeaders(db, { ids: [bagId] }, CLAIM_LAPSE_SECONDS),
     loadBagItems(db, [bagId]),
     binStock(db, bagId),
     lastPackEvent(db, bagId),
@@ -151,15 +151,50 @@ function claimedBy(code: string, name: string) {
 
 async function scanBag(db: Db, packer: Packer, code: string, h: Header | undefined, buildDayId: number) {
   checkBag(h, code, buildDayId, packer.id)
-  await db.transaction(async (tx) => {
-    await claim(tx, h.id, packer.id)
-    await releaseOthers(tx, h.id, packer.id)
-    await tx.insert(schema.bagEvents).values({ bagId: h.id, kind: 'claim', userId: packer.id })
-  })
-  return { outcome: 'bag' as const, bag: await bagView(db, h.id) }
+  if (!await claimInOneTrip(packer.id, h.id)) throw await claimRefusal(db, h.id)
+  // The header just read, with the claim just taken: no need to read it again.
+  const claimed: Header = { ...h, state: 'packing', claimedBy: packer.id, claimedAt: new Date(), claim: { userId: packer.id, name: packer.name, at: new Date() } }
+  return { outcome: 'bag' as const, bag: await bagView(db, h.id, claimed) }
 }
 
-const lapsed = () => sql`${schema.bags.claimedAt} < now() - interval ${CLAIM_LAPSE_SECONDS} second`
+/**
+ * A packer's claim on a bag, in one transaction and one round trip: claim it (free, already theirs,
+ * or lapsed), let go of any other bag they held (back to "not started" when nothing is in it), and
+ * record the claim; false when the bag could not be claimed, and then nothing was written.
+ */
+async function claimInOneTrip(userId: number, bagId: number) {
+  const conn = await useBatchPool().getConnection()
+  let destroyed = false
+  try {
+    const [results] = await conn.query(`set @kw_claimed = 0;
+set transaction isolation level read committed;
+start transaction;
+update bags set claimed_by = ?, claimed_at = now(), state = 'packing'
+  where id = ? and state in ('open', 'packing') and (claimed_by is null or claimed_by = ? or claimed_at < now() - interval ? second);
+set @kw_claimed = row_count();
+update bags b set b.claimed_by = null, b.claimed_at = null,
+    b.state = if(exists(select 1 from bag_items i where i.bag_id = b.id and i.qty_packed > 0), 'packing', 'open')
+  where b.claimed_by = ? and b.id <> ? and b.state in ('open', 'packing') and @kw_claimed = 1;
+insert into bag_events (bag_id, kind, user_id) select ?, 'claim', ? from dual where @kw_claimed = 1;
+commit;
+select @kw_claimed as claimed;`, [userId, bagId, userId, CLAIM_LAPSE_SECONDS, userId, bagId, bagId, userId]) as unknown as [unknown[]]
+    return Number((results.at(-1) as { claimed: number | string }[])[0]!.claimed) === 1
+  }
+  catch (err) {
+    // The rest of the batch, commit included, did not run: end the transaction, or drop the connection.
+    try {
+      await conn.query('rollback')
+    }
+    catch {
+      conn.destroy()
+      destroyed = true
+    }
+    throw err
+  }
+  finally {
+    if (!destroyed) conn.release()
+  }
+}
 
 /** Claims (or renews the claim on) a bag inside the caller's transaction; the row lock serialises every write to the bag. */
 async function claim(tx: Tx, bagId: number, userId: number) {
@@ -435,27 +470,87 @@ export async function undoLast(db: Db, bagId: number, packer: Packer) {
 
 /**
  * Seals a fully packed bag in one transaction: the picks leave their lots (ledger 'pick', never below
- * zero), the order's reservations are consumed, the bag is sealed and the seal recorded.
+ * zero), the order's reservations are consumed, the bag is sealed and the seal recorded. Like a pack,
+ * it goes to MariaDB as one round trip ending in its commit, so the bag's and the lots' row locks are
+ * held only while MariaDB runs it: first the checks, each under the lock of what it checks (the bag's
+ * claim, every line packed, every lot still holding its picks), then the writes, each only if all
+ * checks passed. A deadlock with another seal over shared lots is retried.
  */
 export async function sealBag(db: Db, bagId: number, packer: Packer) {
-  const B = schema.bags
-  const E = schema.bagEvents
-  await db.transaction(async (tx) => {
-    const [res] = await tx.update(B).set({ state: 'sealed', sealedBy: packer.id, sealedAt: sql`now()`, claimedBy: null, claimedAt: null })
-      .where(and(eq(B.id, bagId), inArray(B.state, ['open', 'packing']), or(isNull(B.claimedBy), eq(B.claimedBy, packer.id), lapsed())))
-    if (res.affectedRows !== 1) await claim(tx, bagId, packer.id)
-    const [bag] = await tx.select().from(B).where(eq(B.id, bagId))
-    const [open] = await tx.select({ n: sql<number>`count(*)` }).from(schema.bagItems)
-      .where(and(eq(schema.bagItems.bagId, bagId), sql`${schema.bagItems.qtyPacked} < ${schema.bagItems.qtyNeeded}`))
-    if (Number(open?.n)) throw refuse(409, 'incomplete', `${open!.n} line${Number(open!.n) === 1 ? ' is' : 's are'} not fully packed yet: the bag cannot be sealed`)
-    const picks = await tx.select({ lotId: E.lotId, qty: sql<number>`cast(sum(${E.qty}) as signed)` }).from(E)
-      .where(and(eq(E.bagId, bagId), eq(E.kind, 'pack'), eq(E.undone, 0), isNotNull(E.lotId))).groupBy(E.lotId)
-    await tx.update(schema.reservations).set({ state: 'consumed' }).where(and(eq(schema.reservations.orderId, bag!.orderId), eq(schema.reservations.state, 'confirmed')))
-    await tx.insert(E).values({ bagId, kind: 'seal', userId: packer.id })
-    // Last: the lots' row locks are wanted by every packer of this kit, so they are held only to the commit.
-    await moveStockBatch(tx, picks.filter(p => Number(p.qty) > 0)
-      .map(p => ({ lotId: p.lotId!, qty: -Number(p.qty), kind: 'pick' as const, userId: packer.id, orderId: bag!.orderId, bagId, reason: `Packed into bag ${bag!.code}` })))
-  })
+  for (let attempt = 1; ; attempt++) {
+    try {
+      return await sealInOneTrip(db, bagId, packer)
+    }
+    catch (err) {
+      if (attempt < 3 && (err as { code?: string }).code === 'ER_LOCK_DEADLOCK') continue
+      throw err
+    }
+  }
+}
+
+const PICKS = `(select lot_id, cast(sum(qty) as signed) as q from bag_events
+    where bag_id = ? and kind = 'pack' and undone = 0 and lot_id is not null group by lot_id having sum(qty) > 0)`
+
+async function sealInOneTrip(db: Db, bagId: number, packer: Packer) {
+  const conn = await useBatchPool().getConnection()
+  let destroyed = false
+  let out: { mine: number | string, open: number | string, lots: number | string, ok: number | string, go: number | string }
+  try {
+    const [results] = await conn.query(`set @kw_mine = 0, @kw_open = -1, @kw_lots = 0, @kw_ok = -1, @kw_go = 0;
+set transaction isolation level read committed;
+start transaction;
+select count(*) into @kw_mine from bags
+  where id = ? and state in ('open', 'packing') and (claimed_by is null or claimed_by = ? or claimed_at < now() - interval ? second) for update;
+select count(*) into @kw_open from bag_items where bag_id = ? and qty_packed < qty_needed;
+select count(*) into @kw_lots from ${PICKS} p;
+select count(*) into @kw_ok from lots l where l.id in (select lot_id from ${PICKS} p)
+  and l.on_hand >= (select p.q from ${PICKS} p where p.lot_id = l.id) order by l.id for update;
+set @kw_go = (@kw_mine = 1 and @kw_open = 0 and @kw_ok = @kw_lots);
+update bags set state = 'sealed', sealed_by = ?, sealed_at = now(), claimed_by = null, claimed_at = null where id = ? and @kw_go;
+update lots l join ${PICKS} p on p.lot_id = l.id set l.on_hand = l.on_hand - p.q where @kw_go;
+insert into ledger (lot_id, part_id, bin_id, kind, qty, user_id, reason, order_id, bag_id)
+  select l.id, l.part_id, l.bin_id, 'pick', -p.q, ?, concat('Packed into bag ', g.code), g.order_id, g.id
+  from ${PICKS} p join lots l on l.id = p.lot_id join bags g on g.id = ? where @kw_go order by l.id;
+update reservations set state = 'consumed' where order_id = (select order_id from bags where id = ?) and state = 'confirmed' and @kw_go;
+insert into bag_events (bag_id, kind, user_id) select ?, 'seal', ? from dual where @kw_go;
+commit;
+select @kw_mine as mine, @kw_open as open, @kw_lots as lots, @kw_ok as ok, @kw_go as go;`, [
+      bagId, packer.id, CLAIM_LAPSE_SECONDS,
+      bagId,
+      bagId,
+      bagId, bagId,
+      packer.id, bagId,
+      bagId,
+      packer.id, bagId, bagId,
+      bagId,
+      bagId, packer.id,
+    ]) as unknown as [unknown[]]
+    out = (results.at(-1) as typeof out[])[0]!
+  }
+  catch (err) {
+    // The rest of the batch, commit included, did not run: end the transaction, or drop the connection.
+    try {
+      await conn.query('rollback')
+    }
+    catch {
+      conn.destroy()
+      destroyed = true
+    }
+    throw err
+  }
+  finally {
+    if (!destroyed) conn.release()
+  }
+  if (Number(out.go) === 1) return
+  // Nothing was written: say why, as the station and the bag page show it.
+  if (Number(out.mine) !== 1) throw await claimRefusal(db, bagId)
+  const open = Number(out.open)
+  if (open > 0) throw refuse(409, 'incomplete', `${open} line${open === 1 ? ' is' : 's are'} not fully packed yet: the bag cannot be sealed`)
+  const [short] = await db.execute(sql`select l.id as lotId, l.on_hand as onHand, b.code as code, p.q as asked from lots l join bins b on b.id = l.bin_id
+    join (select lot_id, sum(qty) as q from bag_events where bag_id = ${bagId} and kind = 'pack' and undone = 0 and lot_id is not null group by lot_id) p on p.lot_id = l.id
+    where l.on_hand < p.q order by l.id limit 1`) as unknown as [{ lotId: number, onHand: number, code: string, asked: number }[]]
+  const s = short[0]
+  throw createError({ statusCode: 409, statusMessage: 'Not enough stock', message: s ? `Bin ${s.code} holds only ${s.onHand} of lot ${s.lotId}; ${Number(s.asked)} were asked for` : 'The stock changed while sealing: try again', data: s ? { lotId: Number(s.lotId), onHand: Number(s.onHand), asked: Number(s.asked) } : undefined })
 }
 
 /** An organiser unseals a bag with a reason: its picks go back to their lots (ledger 'return') and the reservations hold again. */
