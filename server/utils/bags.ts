@@ -146,6 +146,13 @@ export async function loadBagHeaders(db: AnyDb, where: { ids?: number[], codes?:
         : eq(B.buildDayId, where.buildDayId ?? 0)
     rows = await bagHeaderQuery(db, lapseSeconds).where(cond).orderBy(asc(schema.orders.seat), asc(B.id))
   }
+  return headersFromRows(db, rows)
+}
+
+export type BagHeaderRow = Awaited<ReturnType<ReturnType<typeof bagHeaderQuery>['execute']>>[number]
+
+/** Header rows as the pages and the station use them: option names, and the claim unless it lapsed. */
+export async function headersFromRows(db: AnyDb, rows: BagHeaderRow[]) {
   const names = await optionNames(db, [...new Set(rows.flatMap(r => r.optionIds ?? []))])
   return rows.map(({ optionIds: ids, claimLapsed, claimerName, sealerName, ...r }) => ({
     ...r,
@@ -153,6 +160,44 @@ export async function loadBagHeaders(db: AnyDb, where: { ids?: number[], codes?:
     claim: r.claimedBy && !Number(claimLapsed) ? { userId: r.claimedBy, name: claimerName ?? '', at: r.claimedAt } : null,
     sealedByName: sealerName,
   }))
+}
+
+/**
+ * The same header and items as loadBagHeaders and loadBagItems, as plain SQL text for one bag (the
+ * packing station sends them with other statements in one round trip); rowsToHeader and rowsToItems
+ * turn their rows into the same shapes.
+ */
+export function oneBagReadSql(lapseSeconds: number) {
+  return {
+    header: `select g.id, g.code, g.state, g.order_id as orderId, g.build_day_id as buildDayId, g.revision_id as revisionId,
+    g.claimed_by as claimedBy, g.claimed_at as claimedAt, g.sealed_at as sealedAt, g.rework_state as reworkState,
+    (g.claimed_at is null or g.claimed_at < now() - interval ${Math.round(lapseSeconds)} second) as claimLapsed,
+    d.name as buildDayName, d.date as buildDayDate, u.name as builderName, o.seat, o.option_ids as optionIds, o.state as orderState,
+    k.name as kitName, r.label as revisionLabel, c.name as claimerName, s.name as sealerName
+  from bags g join orders o on o.id = g.order_id join users u on u.id = o.user_id join build_days d on d.id = g.build_day_id
+    join revisions r on r.id = g.revision_id join kits k on k.id = r.kit_id
+    left join users c on c.id = g.claimed_by left join users s on s.id = g.sealed_by
+  where g.id = ?`,
+    items: `select i.id as itemId, i.bag_id as bagId, i.line_id as lineId, i.stage_id as stageId, i.part_id as partId,
+    i.qty_needed as qtyNeeded, i.qty_packed as qtyPacked, i.stand_in_part_id as standInPartId, i.stand_in_warning as standInWarning,
+    l.designators, l.notes, l.no_stand_ins as noStandIns, l.sort_order as lineOrder, st.name as stageName, st.sort_order as stageOrder,
+    p.name as partName, p.value_text as valueText, p.kind, p.pinout_note as pinoutNote, si.name as standInName
+  from bag_items i force index (bag_items_bag_idx) join bom_lines l on l.id = i.line_id join parts p on p.id = i.part_id
+    left join stages st on st.id = i.stage_id left join parts si on si.id = i.stand_in_part_id
+  where i.bag_id = ?`,
+  }
+}
+
+/** A raw header row (mysql2, no Drizzle) in Drizzle's shape: JSON option ids parsed. */
+export function rawHeaderRow(r: Record<string, unknown>): BagHeaderRow {
+  const ids = typeof r.optionIds === 'string' ? JSON.parse(r.optionIds) as number[] : (r.optionIds as number[] | null)
+  return { ...(r as unknown as BagHeaderRow), optionIds: ids, claimLapsed: Number(r.claimLapsed) }
+}
+
+/** Raw item rows (mysql2, no Drizzle) in loadBagItems' shape and order. */
+export function rawItemRows(rows: Record<string, unknown>[]): BagItemRow[] {
+  return (rows as unknown as BagItemRow[]).map(r => ({ ...r, noStandIns: Boolean(Number(r.noStandIns)) }))
+    .sort((a, b) => (orderKey(a.stageOrder) - orderKey(b.stageOrder)) || (a.lineOrder - b.lineOrder) || (a.itemId - b.itemId))
 }
 
 const optionCache = new Map<number, { name: string, at: number }>()
@@ -177,7 +222,7 @@ function bagItemQuery(db: AnyDb) {
   return db.select({
     itemId: I.id, bagId: I.bagId, lineId: I.lineId, stageId: I.stageId, partId: I.partId,
     qtyNeeded: I.qtyNeeded, qtyPacked: I.qtyPacked, standInPartId: I.standInPartId, standInWarning: I.standInWarning,
-    designators: schema.bomLines.designators, notes: schema.bomLines.notes, noStandIns: schema.bomLines.noStandIns,
+    designators: schema.bomLines.designators, notes: schema.bomLines.notes, noStandIns: schema.bomLines.noStandIns, lineOrder: schema.bomLines.sortOrder,
     stageName: schema.stages.name, stageOrder: schema.stages.sortOrder,
     partName: schema.parts.name, valueText: schema.parts.valueText, kind: schema.parts.kind, pinoutNote: schema.parts.pinoutNote,
     standInName: standIn.name,
@@ -190,12 +235,18 @@ function bagItemQuery(db: AnyDb) {
     .leftJoin(standIn, eq(standIn.id, I.standInPartId))
 }
 const ITEM_ORDER = () => [asc(schema.bagItems.bagId), asc(schema.stages.sortOrder), asc(schema.bomLines.sortOrder), asc(schema.bagItems.id)]
-const itemsOfOneBag = preparedPer((db: AnyDb) => bagItemQuery(db).where(eq(schema.bagItems.bagId, sql.placeholder('bagId'))).orderBy(...ITEM_ORDER()).prepare())
+// One bag's few rows are put in order here rather than by the database (no temporary table and sort
+// on every scan); the order is ITEM_ORDER's, stages without an order first as MariaDB sorts NULL.
+const itemsOfOneBag = preparedPer((db: AnyDb) => bagItemQuery(db).where(eq(schema.bagItems.bagId, sql.placeholder('bagId'))).prepare())
+const orderKey = (v: number | null) => (v == null ? -Infinity : v)
 
 /** A bag's items with their line, part, stage and any stand-in packed, in pouch (stage) order. */
 export async function loadBagItems(db: AnyDb, bagIds: number[]) {
   if (!bagIds.length) return []
-  if (bagIds.length === 1) return itemsOfOneBag(db).execute({ bagId: bagIds[0] })
+  if (bagIds.length === 1) {
+    const rows = await itemsOfOneBag(db).execute({ bagId: bagIds[0] })
+    return rows.sort((a, b) => (orderKey(a.stageOrder) - orderKey(b.stageOrder)) || (a.lineOrder - b.lineOrder) || (a.itemId - b.itemId))
+  }
   return bagItemQuery(db).where(inArray(schema.bagItems.bagId, bagIds)).orderBy(...ITEM_ORDER())
 }
 

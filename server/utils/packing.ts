@@ -2,7 +2,7 @@ import { and, asc, desc, eq, inArray, isNull, sql } from 'drizzle-orm'
 import { createError, setResponseHeader, setResponseHeaders, setResponseStatus, type H3Event } from 'h3'
 import { z } from 'zod'
 import * as schema from '../db/schema'
-import { bagSwapPart, bagTotals, COUNTED_SINGLY, loadBagHeaders, loadBagItems, loadSwapRules, pendingWhere, pouchesOf, standInVerdict, type BagItemRow } from './bags'
+import { bagSwapPart, bagTotals, COUNTED_SINGLY, headersFromRows, loadBagHeaders, loadBagItems, loadSwapRules, oneBagReadSql, pouchesOf, rawHeaderRow, rawItemRows, standInVerdict, type BagItemRow } from './bags'
 import { isBagCode, looksLikeBareCode, readScan } from './codes'
 import { SHEET_LAYOUTS, validateLayout, type SheetLayout } from './labels'
 import { moveStockBatch } from './stock'
@@ -237,20 +237,33 @@ export async function releaseBag(db: Db, bagId: number, packer: Packer) {
 
 interface Candidate { item: BagItemRow, partId: number, partName: string, standIn: { warning: string | null } | null }
 
-/** A bin with its lots (oldest first) and, per lot, what unsealed bags already hold of it: one query. */
-async function binWithLots(db: Db, code: string) {
-  const [rows] = await db.execute(sql`select b.id as binId, l.id as lotId, l.part_id as partId, l.on_hand as onHand,
+/** A bin with its lots (oldest first) and, per lot, what unsealed bags already hold of it. */
+const BIN_LOTS_SQL = `select b.id as binId, l.id as lotId, l.part_id as partId, l.on_hand as onHand,
       coalesce((select sum(e.qty) from bag_events e join bags g on g.id = e.bag_id
         where e.lot_id = l.id and e.kind = 'pack' and e.undone = 0 and g.state in ('open', 'packing')), 0) as pending
-    from bins b left join lots l on l.bin_id = b.id where b.code = ${code} order by l.received_on, l.id`)
-  const list = rows as unknown as { binId: number, lotId: number | null, partId: number | null, onHand: number | null, pending: number | string }[]
+    from bins b left join lots l on l.bin_id = b.id where b.code = ? order by l.received_on, l.id`
+
+function binFromRows(list: { binId: number, lotId: number | null, partId: number | null, onHand: number | null, pending: number | string }[]) {
   if (!list.length) return null
   return {
     id: Number(list[0]!.binId),
     lots: list.flatMap(r => (r.lotId == null ? [] : [{ id: Number(r.lotId), partId: Number(r.partId), onHand: Number(r.onHand), pending: Number(r.pending) }])),
   }
 }
-type BinLot = NonNullable<Awaited<ReturnType<typeof binWithLots>>>['lots'][number]
+type BinLot = NonNullable<ReturnType<typeof binFromRows>>['lots'][number]
+
+/**
+ * What a bin scan needs, in one round trip: the bag's header and items and the bin's lots with what
+ * unsealed bags hold of each (three statements sent together; the same shapes as loadBagHeaders,
+ * loadBagItems and the bin read).
+ */
+async function readForBinScan(db: Db, bagId: number, code: string) {
+  const q = oneBagReadSql(CLAIM_LAPSE_SECONDS)
+  const [results] = await useBatchPool().query(`${q.header};\n${q.items};\n${BIN_LOTS_SQL};`, [bagId, bagId, code]) as unknown as [[Record<string, unknown>[], Record<string, unknown>[], Parameters<typeof binFromRows>[0]]]
+  const [headers, items, bin] = results
+  const [h] = await headersFromRows(db as unknown as Parameters<typeof headersFromRows>[0], headers.map(rawHeaderRow))
+  return { h, items: rawItemRows(items), bin: binFromRows(bin) }
+}
 
 async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
   try {
@@ -267,11 +280,7 @@ async function scanBin(db: Db, packer: Packer, code: string, input: ScanInput) {
 async function scanBinOnce(db: Db, packer: Packer, code: string, input: ScanInput) {
   if (!input.bagId) throw refuse(409, 'no-bag', `That is bin ${code}: scan a bag's label first`)
   const bagId = input.bagId
-  const [[h], bin, items] = await Promise.all([
-    loadBagHeaders(db, { ids: [bagId] }, CLAIM_LAPSE_SECONDS),
-    binWithLots(db, code),
-    loadBagItems(db, [bagId]),
-  ])
+  const { h, bin, items } = await readForBinScan(db, bagId, code)
   checkBag(h, `#${bagId}`, input.buildDayId, packer.id)
   if (!bin) throw refuse(404, 'unknown', `Bin ${code} is not in Kitwright: check its label`)
   const binPartIds = bin.lots.map(l => l.partId)
