@@ -18,7 +18,7 @@ import * as schema from '../server/db/schema'
 import { runCheck } from '../server/db/check'
 import { labelUrl, signCode } from '../server/utils/codes'
 import { makeBag, makePaidBag, openDb, type PackDb } from '../tests/api/packing-data'
-import { cpuMeter, type Cpu } from './cpu'
+import { cpuMeter, yieldToServer, type Cpu } from './cpu'
 import { Client, DEMO } from '../tests/support/client'
 import { startStack } from '../tests/support/stack'
 
@@ -344,6 +344,7 @@ async function main() {
   console.log(`Load bench: ${PACKERS} packers, ${BUILDERS} builders, checkouts; ${SECONDS} s per phase (${PHASES.join(', ')}); ${cpus().length} cores, load average ${loadavg().map(l => l.toFixed(1)).join(' ')}`)
   const t0 = performance.now()
   const stack = await startStack('load')
+  console.log(yieldToServer())
   const { conn, db } = await openDb(stack.dbUrl)
   const base = stack.baseUrl
   const secret = stack.labelSecret
