@@ -163,10 +163,7 @@ async function scanBag(db: Db, packer: Packer, code: string, h: Header | undefin
  * record the claim; false when the bag could not be claimed, and then nothing was written.
  */
 async function claimInOneTrip(userId: number, bagId: number) {
-  const conn = await useBatchPool().getConnection()
-  let destroyed = false
-  try {
-    const [results] = await conn.query(`set @kw_claimed = 0;
+  const results = await runBatch(`set @kw_claimed = 0;
 set transaction isolation level read committed;
 start transaction;
 update bags set claimed_by = ?, claimed_at = now(), state = 'packing'
@@ -177,23 +174,8 @@ update bags b set b.claimed_by = null, b.claimed_at = null,
   where b.claimed_by = ? and b.id <> ? and b.state in ('open', 'packing') and @kw_claimed = 1;
 insert into bag_events (bag_id, kind, user_id) select ?, 'claim', ? from dual where @kw_claimed = 1;
 commit;
-select @kw_claimed as claimed;`, [userId, bagId, userId, CLAIM_LAPSE_SECONDS, userId, bagId, bagId, userId]) as unknown as [unknown[]]
-    return Number((results.at(-1) as { claimed: number | string }[])[0]!.claimed) === 1
-  }
-  catch (err) {
-    // The rest of the batch, commit included, did not run: end the transaction, or drop the connection.
-    try {
-      await conn.query('rollback')
-    }
-    catch {
-      conn.destroy()
-      destroyed = true
-    }
-    throw err
-  }
-  finally {
-    if (!destroyed) conn.release()
-  }
+select @kw_claimed as claimed;`, [userId, bagId, userId, CLAIM_LAPSE_SECONDS, userId, bagId, bagId, userId])
+  return Number((results.at(-1) as { claimed: number | string }[])[0]!.claimed) === 1
 }
 
 /** Claims (or renews the claim on) a bag inside the caller's transaction; the row lock serialises every write to the bag. */
@@ -314,6 +296,34 @@ async function scanBinOnce(db: Db, packer: Packer, code: string, input: ScanInpu
   return packed(db, h.id, packer, { itemId: pick.item.itemId, designators: pick.item.designators, qty, binCode: code, partName: pick.partName, standIn: pick.standIn }, { item, totals, lastPack })
 }
 
+/**
+ * Sends one multi-statement batch (fixed SQL text, `?` parameters) on the batch pool and returns each
+ * statement's result. When a statement fails, the rest of the batch (its commit included) does not
+ * run and its transaction stays open on the connection: it is rolled back before the connection goes
+ * back to the pool, or the connection is dropped when even that fails.
+ */
+async function runBatch(text: string, params: unknown[]): Promise<unknown[]> {
+  const conn = await useBatchPool().getConnection()
+  let destroyed = false
+  try {
+    const [results] = await conn.query(text, params)
+    return results as unknown as unknown[]
+  }
+  catch (err) {
+    try {
+      await conn.query('rollback')
+    }
+    catch {
+      conn.destroy()
+      destroyed = true
+    }
+    throw err
+  }
+  finally {
+    if (!destroyed) conn.release()
+  }
+}
+
 interface PackWrite { bagId: number, itemId: number, lotId: number, binId: number, partId: number, qty: number, userId: number, standIn: { warning: string | null } | null }
 
 /**
@@ -327,10 +337,7 @@ interface PackWrite { bagId: number, itemId: number, lotId: number, binId: numbe
  * outcome to the next statement and back to us; they are reset first, since connections are reused.
  */
 async function packInOneTrip(db: Db, w: PackWrite, refusals: { overCount: () => Error, binShort: (left: number) => Error }) {
-  const conn = await useBatchPool().getConnection()
-  let destroyed = false
-  try {
-    const [results] = await conn.query(`set @kw_claimed = 0, @kw_on_hand = null, @kw_held = 0, @kw_added = 0, @kw_event = null;
+  const results = await runBatch(`set @kw_claimed = 0, @kw_on_hand = null, @kw_held = 0, @kw_added = 0, @kw_event = null;
 set transaction isolation level read committed;
 start transaction;
 update bags set claimed_by = ?, claimed_at = now(), state = 'packing'
@@ -348,38 +355,19 @@ set @kw_event = if(@kw_added = 1, last_insert_id(), null);
 commit;
 select @kw_claimed as claimed, @kw_added as added, @kw_on_hand as onHand, @kw_held as held, @kw_event as eventId,
   (select qty_packed from bag_items where id = ?) as qtyPacked;`, [
-      w.userId, w.bagId, w.userId, CLAIM_LAPSE_SECONDS,
-      w.lotId, w.lotId,
-      w.qty, ...(w.standIn ? [w.partId, w.standIn.warning] : []), w.itemId, w.bagId, w.qty, w.qty,
-      w.bagId, w.itemId, w.lotId, w.binId, w.partId, w.qty, w.userId, w.standIn ? 'stand-in' : null,
-      w.itemId,
-    ]) as unknown as [unknown[]]
-    const out = (results.at(-1) as { claimed: number | string, added: number | string, onHand: number | string | null, held: number | string, eventId: number | string | null, qtyPacked: number | string | null }[])[0]!
-    if (Number(out.added) === 1) return { eventId: Number(out.eventId), qtyPacked: Number(out.qtyPacked) }
-    // Nothing was written (or only the claim renewed): say why.
-    if (Number(out.claimed) !== 1) throw await claimRefusal(db, w.bagId)
-    const free = out.onHand == null ? 0 : Number(out.onHand) - Number(out.held)
-    if (free < w.qty) throw refusals.binShort(free)
-    throw refusals.overCount()
-  }
-  catch (err) {
-    // A statement that failed leaves the transaction open on this connection (the rest of the batch,
-    // commit included, did not run): end it before the pool hands the connection out again, or drop
-    // the connection when that fails too.
-    if ((err as { statusCode?: number }).statusCode === undefined) {
-      try {
-        await conn.query('rollback')
-      }
-      catch {
-        conn.destroy()
-        destroyed = true
-      }
-    }
-    throw err
-  }
-  finally {
-    if (!destroyed) conn.release()
-  }
+    w.userId, w.bagId, w.userId, CLAIM_LAPSE_SECONDS,
+    w.lotId, w.lotId,
+    w.qty, ...(w.standIn ? [w.partId, w.standIn.warning] : []), w.itemId, w.bagId, w.qty, w.qty,
+    w.bagId, w.itemId, w.lotId, w.binId, w.partId, w.qty, w.userId, w.standIn ? 'stand-in' : null,
+    w.itemId,
+  ])
+  const out = (results.at(-1) as { claimed: number | string, added: number | string, onHand: number | string | null, held: number | string, eventId: number | string | null, qtyPacked: number | string | null }[])[0]!
+  if (Number(out.added) === 1) return { eventId: Number(out.eventId), qtyPacked: Number(out.qtyPacked) }
+  // Nothing was written (or only the claim renewed): say why.
+  if (Number(out.claimed) !== 1) throw await claimRefusal(db, w.bagId)
+  const free = out.onHand == null ? 0 : Number(out.onHand) - Number(out.held)
+  if (free < w.qty) throw refusals.binShort(free)
+  throw refusals.overCount()
 }
 
 function countsSingly(item: BagItemRow) {
@@ -501,11 +489,7 @@ const PICKS = `(select lot_id, cast(sum(qty) as signed) as q from bag_events
     where bag_id = ? and kind = 'pack' and undone = 0 and lot_id is not null group by lot_id having sum(qty) > 0)`
 
 async function sealInOneTrip(db: Db, bagId: number, packer: Packer) {
-  const conn = await useBatchPool().getConnection()
-  let destroyed = false
-  let out: { mine: number | string, open: number | string, lots: number | string, ok: number | string, go: number | string }
-  try {
-    const [results] = await conn.query(`set @kw_mine = 0, @kw_open = -1, @kw_lots = 0, @kw_ok = -1, @kw_go = 0;
+  const results = await runBatch(`set @kw_mine = 0, @kw_open = -1, @kw_lots = 0, @kw_ok = -1, @kw_go = 0;
 set transaction isolation level read committed;
 start transaction;
 select count(*) into @kw_mine from bags
@@ -524,32 +508,17 @@ update reservations set state = 'consumed' where order_id = (select order_id fro
 insert into bag_events (bag_id, kind, user_id) select ?, 'seal', ? from dual where @kw_go;
 commit;
 select @kw_mine as mine, @kw_open as open, @kw_lots as lots, @kw_ok as ok, @kw_go as go;`, [
-      bagId, packer.id, CLAIM_LAPSE_SECONDS,
-      bagId,
-      bagId,
-      bagId, bagId,
-      packer.id, bagId,
-      bagId,
-      packer.id, bagId, bagId,
-      bagId,
-      bagId, packer.id,
-    ]) as unknown as [unknown[]]
-    out = (results.at(-1) as typeof out[])[0]!
-  }
-  catch (err) {
-    // The rest of the batch, commit included, did not run: end the transaction, or drop the connection.
-    try {
-      await conn.query('rollback')
-    }
-    catch {
-      conn.destroy()
-      destroyed = true
-    }
-    throw err
-  }
-  finally {
-    if (!destroyed) conn.release()
-  }
+    bagId, packer.id, CLAIM_LAPSE_SECONDS,
+    bagId,
+    bagId,
+    bagId, bagId,
+    packer.id, bagId,
+    bagId,
+    packer.id, bagId, bagId,
+    bagId,
+    bagId, packer.id,
+  ])
+  const out = (results.at(-1) as { mine: number | string, open: number | string, lots: number | string, ok: number | string, go: number | string }[])[0]!
   if (Number(out.go) === 1) return
   // Nothing was written: say why, as the station and the bag page show it.
   if (Number(out.mine) !== 1) throw await claimRefusal(db, bagId)
