@@ -37,11 +37,15 @@ export function builderOrderStatus(orderState: string, bagState: string | null |
 }
 
 /** The builder's orders, newest first, with the kit, build day and bag state (expired holds left out). */
+// The kit and build day as both builder reads show them.
+const kitColumns = () => ({ id: tables.kits.id, name: tables.kits.name, transmits: tables.kits.transmits })
+const dayColumns = () => ({ id: tables.buildDays.id, name: tables.buildDays.name, date: tables.buildDays.date, venue: tables.buildDays.venue })
+
 const ordersOfBuilder = preparedPer((db: Db) => db.select({
   order: tables.orders,
-  kit: { id: tables.kits.id, name: tables.kits.name, transmits: tables.kits.transmits },
+  kit: kitColumns(),
   revisionLabel: tables.revisions.label,
-  day: { id: tables.buildDays.id, name: tables.buildDays.name, date: tables.buildDays.date, venue: tables.buildDays.venue },
+  day: dayColumns(),
   bag: { id: tables.bags.id, code: tables.bags.code, state: tables.bags.state, revisionId: tables.bags.revisionId, collectedAt: tables.bags.collectedAt },
 }).from(tables.orders)
   .innerJoin(tables.offerings, eq(tables.offerings.id, tables.orders.offeringId))
@@ -106,8 +110,8 @@ function unknownPart(id: number): BagPartView {
 const bagHeaderForBuilder = preparedPer((db: Db) => db.select({
   bag: tables.bags, order: tables.orders,
   revision: { id: tables.revisions.id, label: tables.revisions.label },
-  kit: { id: tables.kits.id, name: tables.kits.name, transmits: tables.kits.transmits },
-  day: { id: tables.buildDays.id, name: tables.buildDays.name, date: tables.buildDays.date, venue: tables.buildDays.venue },
+  kit: kitColumns(),
+  day: dayColumns(),
   builder: { id: tables.users.id, name: tables.users.name, email: tables.users.email, callsign: tables.users.callsign },
 }).from(tables.bags)
   .innerJoin(tables.orders, eq(tables.orders.id, tables.bags.orderId))
