@@ -102,6 +102,10 @@ export async function startApp(env: Record<string, string>, port?: number): Prom
     env: { ...process.env, ...env, PORT: String(p), HOST: '127.0.0.1', NODE_ENV: 'production' },
     stdio: ['ignore', 'pipe', 'pipe'],
   })
+  // The app dies with whoever started it (a bench or test run that crashes leaves no server behind).
+  const killChild = () => { if (child.exitCode === null && !child.signalCode) child.kill('SIGKILL') }
+  process.once('exit', killChild)
+  child.once('exit', () => process.off('exit', killChild))
   let log = ''
   child.stdout!.on('data', (d) => { log += d })
   child.stderr!.on('data', (d) => { log += d })
