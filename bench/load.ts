@@ -10,6 +10,7 @@
 //      KW_LOAD_SECONDS per phase, default 25; KW_LOAD_PHASES=solo,peak,stress;
 //      KW_LOAD_PROFILE=1 profiles the app's CPU during the peak phase through its inspector and prints where the time goes)
 import { cpus, loadavg } from 'node:os'
+import { monitorEventLoopDelay } from 'node:perf_hooks'
 import { and, eq } from 'drizzle-orm'
 // @ts-expect-error autocannon ships no types
 import autocannon from 'autocannon'
@@ -378,6 +379,10 @@ async function main() {
       const stats = newStats()
       const sealed = { n: 0 }
       const meter = cpuMeter(stack.app.child.pid!)
+      // The bench measures each latency on its own event loop: when that loop is held up (autocannon,
+      // and the fake card and mail servers living in this process), every route's latency grows at once.
+      const benchLoop = monitorEventLoopDelay({ resolution: 10 })
+      benchLoop.enable()
       const started = performance.now()
       if (phase === 'solo') {
         // One request at a time per route: the service time without queueing, and its CPU cost.
@@ -406,8 +411,10 @@ async function main() {
         await stopProfile()
         stopProfile = undefined
       }
+      benchLoop.disable()
       const r = report(PHASE_TITLES[phase] ?? phase, stats, elapsed, cpu)
       console.log(`bags sealed during the phase: ${sealed.n}; checkouts left: ${pairs.length}`)
+      console.log(`this bench's own event loop (its delays are in every latency above): p99 ${(benchLoop.percentile(99) / 1e6).toFixed(0)} ms, max ${(benchLoop.max / 1e6).toFixed(0)} ms`)
       results.push({ phase, ...r })
     }
 
