@@ -50,7 +50,7 @@ export const bagEvents = mysqlTable('bag_events', {
   userId: int('user_id').references(() => users.id, { onDelete: 'set null' }),
   note: varchar('note', { length: 255 }),
   createdAt: timestamp('created_at', { mode: 'date', fsp: 3 }).notNull().defaultNow(),
-}, t => [index('bag_events_bag_idx').on(t.bagId), index('bag_events_lot_idx').on(t.lotId)])
+}, t => [index('bag_events_bag_idx').on(t.bagId), index('bag_events_lot_pack_idx').on(t.lotId, t.kind, t.undone, t.bagId, t.qty)])
 
 export const reports = mysqlTable('reports', {
   id: int('id').autoincrement().primaryKey(),
