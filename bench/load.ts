@@ -18,7 +18,7 @@ import WebSocket from 'ws'
 import * as schema from '../server/db/schema'
 import { runCheck } from '../server/db/check'
 import { labelUrl, signCode } from '../server/utils/codes'
-import { makeBag, makePaidBag, openDb, type PackDb } from '../tests/api/packing-data'
+import { makeBag, makeBuildDay, makePaidBag, openDb, topUpStock, type PackDb } from '../tests/api/packing-data'
 import { cpuMeter, yieldToServer, type Cpu } from './cpu'
 import { Client, DEMO } from '../tests/support/client'
 import { startStack } from '../tests/support/stack'
@@ -54,30 +54,10 @@ const newStats = (): Stats => Object.fromEntries(Object.keys(ROUTES).map(r => [r
 
 // ---------- the bench's own records ----------
 
-async function salesDay(db: PackDb, name: string) {
+/** A build day on sale now, with room for every bench checkout. */
+function salesDay(db: PackDb, name: string) {
   const now = Date.now()
-  const [day] = await db.insert(schema.buildDays).values({
-    name, date: '2027-05-15', venue: 'Bench hall', seats: 100_000, salesOpenAt: new Date(now - 86_400_000), salesCloseAt: new Date(now + 30 * 86_400_000), currency: 'GBP',
-  }).$returningId()
-  const revs = await db.select({ id: schema.revisions.id }).from(schema.revisions).where(eq(schema.revisions.state, 'released'))
-  for (const r of revs) {
-    const opts = await db.select({ id: schema.options.id }).from(schema.options).where(eq(schema.options.revisionId, r.id))
-    await db.insert(schema.offerings).values({ buildDayId: day!.id, revisionId: r.id, allowedOptionIds: opts.map(o => o.id), memberPriceMinor: 2000, nonMemberPriceMinor: 2500 })
-  }
-  return day!.id
-}
-
-/** Enough stock for every bag and checkout: one more lot of each part in its own bin, received through the ledger.
- *  Dated oldest, so the station packs from it first and the small demo lots are not raced to zero. */
-async function topUpStock(db: PackDb, organiserId: number) {
-  const lots = await db.select().from(schema.lots)
-  const seen = new Set<number>()
-  for (const l of lots) {
-    if (seen.has(l.partId)) continue
-    seen.add(l.partId)
-    const [lot] = await db.insert(schema.lots).values({ partId: l.partId, binId: l.binId, qtyReceived: 50_000, onHand: 50_000, unitCostMinor: l.unitCostMinor, receivedOn: '2020-01-01', note: 'load bench stock' }).$returningId()
-    await db.insert(schema.ledger).values({ lotId: lot!.id, partId: l.partId, binId: l.binId, kind: 'receive', qty: 50_000, userId: organiserId, reason: 'load bench stock' })
-  }
+  return makeBuildDay(db, name, { date: '2027-05-15', venue: 'Bench hall', seats: 100_000, salesOpenAt: new Date(now - 86_400_000), salesCloseAt: new Date(now + 30 * 86_400_000) })
 }
 
 async function makeUser(db: PackDb, email: string, name: string, role: 'packer' | 'builder', hash: string) {
@@ -353,7 +333,7 @@ async function main() {
     const [organiser] = await db.select().from(schema.users).where(eq(schema.users.email, DEMO.organiser))
     const hash = organiser!.passwordHash
     const dayId = await salesDay(db, 'Load bench build day')
-    await topUpStock(db, organiser!.id)
+    await topUpStock(db, { qty: 50_000, receivedOn: '2020-01-01', note: 'load bench stock' })
     const packerIds = await inBatches(Array.from({ length: PACKERS }, (_, i) => i), 1, i => makeUser(db, `load.packer${i + 1}@club.invalid`, `Load Packer ${i + 1}`, 'packer', hash))
     const packers = await inBatches(packerIds, 8, (_, i) => new Client(base).login(`load.packer${i + 1}@club.invalid`))
     const queue: { id: number, code: string }[] = []

@@ -7,14 +7,14 @@ import * as schema from '../server/db/schema'
 import { bagLabels } from '../server/utils/bags'
 import { labelUrl } from '../server/utils/codes'
 import { renderLabels, SHEET_LAYOUTS } from '../server/utils/labels'
-import { makeBuildDay, makePaidBag, openDb, stockLedgerMismatches, type PackDb } from '../tests/api/packing-data'
+import { makeBuildDay, makePaidBag, openDb, stockLedgerMismatches, topUpStock, type PackDb } from '../tests/api/packing-data'
 import { Client } from '../tests/support/client'
 import { startStack } from '../tests/support/stack'
 import { cpuMeter, yieldToServer, type Cpu } from './cpu'
 
 const PACKERS = Number(process.env.KW_BENCH_PACKERS || 20)
 const SECONDS = Number(process.env.KW_BENCH_SECONDS || 30)
-const BAGS = Number(process.env.KW_BENCH_BAGS || 300)
+const BAGS = Number(process.env.KW_BENCH_BAGS || 450) // both rounds at today's speed need ~300
 // A quick packer scans about once a second; 250 ms between one packer's scans is already four times that.
 const PAUSE_MS = Number(process.env.KW_BENCH_PAUSE_MS || 250)
 const KITS = [{ slug: 'wren-40', option: '40 m (7.030 MHz)' }, { slug: 'linnet-20' }, { slug: 'tern-atu' }, { slug: 'wren-40', option: '80 m (3.560 MHz)' }]
@@ -52,19 +52,6 @@ async function healthFloor(base: string) {
 function percentile(sorted: number[], p: number) {
   if (!sorted.length) return NaN
   return sorted[Math.min(sorted.length - 1, Math.ceil((p / 100) * sorted.length) - 1)]!
-}
-
-/** Enough stock for every bag: one more lot of each part, in the part's own bin, received through the ledger. */
-async function topUpStock(db: PackDb) {
-  const lots = await db.select().from(schema.lots)
-  const [organiser] = await db.select().from(schema.users).where(eq(schema.users.email, 'olwen.hartley@club.invalid'))
-  const seen = new Set<number>()
-  for (const l of lots) {
-    if (seen.has(l.partId)) continue
-    seen.add(l.partId)
-    const [lot] = await db.insert(schema.lots).values({ partId: l.partId, binId: l.binId, qtyReceived: 20_000, onHand: 20_000, unitCostMinor: l.unitCostMinor, receivedOn: '2026-12-01', note: 'bench stock' }).$returningId()
-    await db.insert(schema.ledger).values({ lotId: lot!.id, partId: l.partId, binId: l.binId, kind: 'receive', qty: 20_000, userId: organiser!.id, reason: 'bench stock' })
-  }
 }
 
 /** Packer accounts for the bench (they share the demo password hash). */
@@ -144,7 +131,7 @@ async function main() {
   const { conn, db } = await openDb(stack.dbUrl)
   try {
     const dayId = await makeBuildDay(db, 'Bench build day')
-    await topUpStock(db)
+    await topUpStock(db, { qty: 20_000, receivedOn: '2026-12-01', note: 'bench stock' })
     const t0 = performance.now()
     const queue: { id: number, code: string }[] = []
     for (let i = 0; i < BAGS; i++) {

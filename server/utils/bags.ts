@@ -1,4 +1,4 @@
-import { and, asc, eq, inArray, isNull, sql, type SQL } from 'drizzle-orm'
+import { and, asc, eq, inArray, isNull, sql, type Placeholder, type SQL } from 'drizzle-orm'
 import { alias } from 'drizzle-orm/mysql-core'
 import type { MySql2Database } from 'drizzle-orm/mysql2'
 import { createError } from 'h3'
@@ -100,14 +100,14 @@ export const COUNTED_SINGLY: readonly string[] = ['ic', 'transistor', 'crystal',
 
 export type BagHeader = Awaited<ReturnType<typeof loadBagHeaders>>[number]
 
-function bagHeaderQuery(db: AnyDb, lapseSeconds: number) {
+function bagHeaderQuery(db: AnyDb, lapseSeconds: number | Placeholder) {
   const B = schema.bags
   const claimer = alias(schema.users, 'claimer')
   const sealer = alias(schema.users, 'sealer')
   return db.select({
     id: B.id, code: B.code, state: B.state, orderId: B.orderId, buildDayId: B.buildDayId, revisionId: B.revisionId,
     claimedBy: B.claimedBy, claimedAt: B.claimedAt, sealedAt: B.sealedAt, reworkState: B.reworkState,
-    claimLapsed: sql<number>`(${B.claimedAt} is null or ${B.claimedAt} < now() - interval ${sql.raw(String(Math.round(lapseSeconds)))} second)`,
+    claimLapsed: sql<number>`(${B.claimedAt} is null or ${B.claimedAt} < now() - interval ${lapseSeconds} second)`,
     buildDayName: schema.buildDays.name, buildDayDate: schema.buildDays.date,
     builderName: schema.users.name, seat: schema.orders.seat, optionIds: schema.orders.optionIds, orderState: schema.orders.state,
     kitName: schema.kits.name, revisionLabel: schema.revisions.label,
@@ -122,13 +122,8 @@ function bagHeaderQuery(db: AnyDb, lapseSeconds: number) {
     .leftJoin(sealer, eq(sealer.id, B.sealedBy))
 }
 
-const headerPrepared = new Map<number, ReturnType<typeof preparedHeaders>>()
-function preparedHeaders(lapseSeconds: number) {
-  return {
-    byId: preparedPer((db: AnyDb) => bagHeaderQuery(db, lapseSeconds).where(eq(schema.bags.id, sql.placeholder('id'))).prepare()),
-    byCode: preparedPer((db: AnyDb) => bagHeaderQuery(db, lapseSeconds).where(eq(schema.bags.code, sql.placeholder('code'))).prepare()),
-  }
-}
+const headerById = preparedPer((db: AnyDb) => bagHeaderQuery(db, sql.placeholder('lapse')).where(eq(schema.bags.id, sql.placeholder('id'))).prepare())
+const headerByCode = preparedPer((db: AnyDb) => bagHeaderQuery(db, sql.placeholder('lapse')).where(eq(schema.bags.code, sql.placeholder('code'))).prepare())
 
 /** Bag headers (builder, kit, revision, options, claim) by bag ids or codes. */
 export async function loadBagHeaders(db: AnyDb, where: { ids?: number[], codes?: string[], buildDayId?: number }, lapseSeconds = 600) {
@@ -136,9 +131,7 @@ export async function loadBagHeaders(db: AnyDb, where: { ids?: number[], codes?:
   let rows: Awaited<ReturnType<ReturnType<typeof bagHeaderQuery>['execute']>>
   if (where.ids?.length === 1 || where.codes?.length === 1) {
     // One bag (every scan at the packing station): the prepared query.
-    let p = headerPrepared.get(lapseSeconds)
-    if (!p) headerPrepared.set(lapseSeconds, p = preparedHeaders(lapseSeconds))
-    rows = where.ids ? await p.byId(db).execute({ id: where.ids[0] }) : await p.byCode(db).execute({ code: where.codes![0] })
+    rows = where.ids ? await headerById(db).execute({ id: where.ids[0], lapse: lapseSeconds }) : await headerByCode(db).execute({ code: where.codes![0], lapse: lapseSeconds })
   }
   else {
     const cond = where.ids ? inArray(B.id, where.ids.length ? where.ids : [0])
@@ -190,7 +183,7 @@ export function oneBagReadSql(lapseSeconds: number) {
 
 /** A raw header row (mysql2, no Drizzle) in Drizzle's shape: JSON option ids parsed. */
 export function rawHeaderRow(r: Record<string, unknown>): BagHeaderRow {
-  const ids = typeof r.optionIds === 'string' ? JSON.parse(r.optionIds) as number[] : (r.optionIds as number[] | null)
+  const ids = typeof r.optionIds === 'string' ? JSON.parse(r.optionIds) as number[] : ((r.optionIds as number[] | null) ?? [])
   return { ...(r as unknown as BagHeaderRow), optionIds: ids, claimLapsed: Number(r.claimLapsed) }
 }
 

@@ -1,15 +1,29 @@
 import { and, asc, desc, eq, inArray, isNull, sql } from 'drizzle-orm'
+import { format } from 'mysql2'
 import { createError, setResponseHeader, setResponseHeaders, setResponseStatus, type H3Event } from 'h3'
 import { z } from 'zod'
 import * as schema from '../db/schema'
 import { bagSwapPart, bagTotals, COUNTED_SINGLY, headersFromRows, loadBagHeaders, loadBagItems, loadSwapRules, oneBagReadSql, pouchesOf, rawHeaderRow, rawItemRows, standInVerdict, type BagItemRow } from './bags'
 import { isBagCode, looksLikeBareCode, readScan } from './codes'
 import { SHEET_LAYOUTS, validateLayout, type SheetLayout } from './labels'
-import { moveStockBatch } from './stock'
+import { moveStockBatch, retryOnLockConflict } from './stock'
 import { useBatchPool, type Db, type Tx } from './db'
 
 /** A claim on a bag lapses after this long without a scan (KW_CLAIM_MINUTES, default 10). */
-export const CLAIM_LAPSE_SECONDS = Math.max(30, Math.round(Number(process.env.KW_CLAIM_MINUTES || 10) * 60))
+export const CLAIM_LAPSE_SECONDS = Math.max(30, Math.round((Number(process.env.KW_CLAIM_MINUTES) || 10) * 60))
+
+// The packing station's statements share these pieces of SQL text (`?` placeholders, filled by mysql2).
+/** A bag that user may claim: free, already theirs, or their claim lapsed. Parameters: bag id, user id. */
+const CLAIMABLE = `id = ? and state in ('open', 'packing') and (claimed_by is null or claimed_by = ? or claimed_at < now() - interval ${CLAIM_LAPSE_SECONDS} second)`
+/** Claims (or renews the claim on) a bag. Parameters: user id, bag id, user id. */
+const CLAIM_SQL = `update bags set claimed_by = ?, claimed_at = now(), state = 'packing' where ${CLAIMABLE}`
+/**
+ * What unsealed bags hold of a lot (`lot`: an SQL expression for its id). Only ever inside a plain
+ * SELECT: in read committed that is a consistent read, while `SET @v = (subquery)` would take shared
+ * locks on other packers' rows and deadlock with them.
+ */
+const heldOfLot = (lot: string) => `select coalesce(sum(e.qty), 0) from bag_events e join bags g on g.id = e.bag_id
+  where e.lot_id = ${lot} and e.kind = 'pack' and e.undone = 0 and g.state in ('open', 'packing')`
 
 export type RefusalReason = 'not-a-label' | 'unknown' | 'other-day' | 'order' | 'sealed' | 'claimed' | 'no-bag' | 'wrong-bin'
   | 'line-done' | 'over-count' | 'bin-short' | 'nothing-to-undo' | 'incomplete' | 'not-sealed'
@@ -166,23 +180,20 @@ async function claimInOneTrip(userId: number, bagId: number) {
   const results = await runBatch(`set @kw_claimed = 0;
 set transaction isolation level read committed;
 start transaction;
-update bags set claimed_by = ?, claimed_at = now(), state = 'packing'
-  where id = ? and state in ('open', 'packing') and (claimed_by is null or claimed_by = ? or claimed_at < now() - interval ? second);
+${CLAIM_SQL};
 set @kw_claimed = row_count();
 update bags b set b.claimed_by = null, b.claimed_at = null,
     b.state = if(exists(select 1 from bag_items i where i.bag_id = b.id and i.qty_packed > 0), 'packing', 'open')
   where b.claimed_by = ? and b.id <> ? and b.state in ('open', 'packing') and @kw_claimed = 1;
 insert into bag_events (bag_id, kind, user_id) select ?, 'claim', ? from dual where @kw_claimed = 1;
 commit;
-select @kw_claimed as claimed;`, [userId, bagId, userId, CLAIM_LAPSE_SECONDS, userId, bagId, bagId, userId])
+select @kw_claimed as claimed;`, [userId, bagId, userId, userId, bagId, bagId, userId])
   return Number((results.at(-1) as { claimed: number | string }[])[0]!.claimed) === 1
 }
 
 /** Claims (or renews the claim on) a bag inside the caller's transaction; the row lock serialises every write to the bag. */
 async function claim(tx: Tx, bagId: number, userId: number) {
-  // Plain SQL on the scan path: Drizzle's builder costs more CPU than the statement here.
-  const [res] = await tx.execute(sql`update bags set claimed_by = ${userId}, claimed_at = now(), state = 'packing'
-    where id = ${bagId} and state in ('open', 'packing') and (claimed_by is null or claimed_by = ${userId} or claimed_at < now() - interval ${CLAIM_LAPSE_SECONDS} second)`)
+  const [res] = await tx.execute(sql.raw(format(CLAIM_SQL, [userId, bagId, userId])))
   if ((res as unknown as { affectedRows: number }).affectedRows === 1) return
   throw await claimRefusal(tx as unknown as Db, bagId)
 }
@@ -221,8 +232,7 @@ interface Candidate { item: BagItemRow, partId: number, partName: string, standI
 
 /** A bin with its lots (oldest first) and, per lot, what unsealed bags already hold of it. */
 const BIN_LOTS_SQL = `select b.id as binId, l.id as lotId, l.part_id as partId, l.on_hand as onHand,
-      coalesce((select sum(e.qty) from bag_events e join bags g on g.id = e.bag_id
-        where e.lot_id = l.id and e.kind = 'pack' and e.undone = 0 and g.state in ('open', 'packing')), 0) as pending
+      (${heldOfLot('l.id')}) as pending
     from bins b left join lots l on l.bin_id = b.id where b.code = ? order by l.received_on, l.id`
 
 function binFromRows(list: { binId: number, lotId: number | null, partId: number | null, onHand: number | null, pending: number | string }[]) {
@@ -298,11 +308,17 @@ async function scanBinOnce(db: Db, packer: Packer, code: string, input: ScanInpu
 
 /**
  * Sends one multi-statement batch (fixed SQL text, `?` parameters) on the batch pool and returns each
- * statement's result. When a statement fails, the rest of the batch (its commit included) does not
- * run and its transaction stays open on the connection: it is rolled back before the connection goes
- * back to the pool, or the connection is dropped when even that fails.
+ * statement's result, running it again when MariaDB picks it as a deadlock victim. When a statement
+ * fails, the rest of the batch (its commit included) does not run and its transaction stays open on
+ * the connection: it is rolled back before the connection goes back to the pool, or the connection is
+ * dropped when even that fails.
  */
 async function runBatch(text: string, params: unknown[]): Promise<unknown[]> {
+  // A batch is a whole transaction, so a deadlock victim (rolled back by MariaDB) can simply run again.
+  return retryOnLockConflict(() => runBatchOnce(text, params), { message: 'The packing station is busy with the same bins: scan again' })
+}
+
+async function runBatchOnce(text: string, params: unknown[]): Promise<unknown[]> {
   const conn = await useBatchPool().getConnection()
   let destroyed = false
   try {
@@ -340,12 +356,10 @@ async function packInOneTrip(db: Db, w: PackWrite, refusals: { overCount: () => 
   const results = await runBatch(`set @kw_claimed = 0, @kw_on_hand = null, @kw_held = 0, @kw_added = 0, @kw_event = null;
 set transaction isolation level read committed;
 start transaction;
-update bags set claimed_by = ?, claimed_at = now(), state = 'packing'
-  where id = ? and state in ('open', 'packing') and (claimed_by is null or claimed_by = ? or claimed_at < now() - interval ? second);
+${CLAIM_SQL};
 set @kw_claimed = row_count();
 select on_hand into @kw_on_hand from lots where id = ? for update;
-select coalesce(sum(e.qty), 0) into @kw_held from bag_events e join bags b on b.id = e.bag_id
-  where e.lot_id = ? and e.kind = 'pack' and e.undone = 0 and b.state in ('open', 'packing');
+${heldOfLot('?')} into @kw_held;
 update bag_items set qty_packed = qty_packed + ?${w.standIn ? ', stand_in_part_id = ?, stand_in_warning = ?' : ''}
   where id = ? and bag_id = ? and qty_packed + ? <= qty_needed and @kw_claimed = 1 and @kw_on_hand - @kw_held >= ?;
 set @kw_added = row_count();
@@ -355,7 +369,7 @@ set @kw_event = if(@kw_added = 1, last_insert_id(), null);
 commit;
 select @kw_claimed as claimed, @kw_added as added, @kw_on_hand as onHand, @kw_held as held, @kw_event as eventId,
   (select qty_packed from bag_items where id = ?) as qtyPacked;`, [
-    w.userId, w.bagId, w.userId, CLAIM_LAPSE_SECONDS,
+    w.userId, w.bagId, w.userId,
     w.lotId, w.lotId,
     w.qty, ...(w.standIn ? [w.partId, w.standIn.warning] : []), w.itemId, w.bagId, w.qty, w.qty,
     w.bagId, w.itemId, w.lotId, w.binId, w.partId, w.qty, w.userId, w.standIn ? 'stand-in' : null,
@@ -465,35 +479,23 @@ export async function undoLast(db: Db, bagId: number, packer: Packer) {
   return bagView(db, bagId)
 }
 
+/** SQL: a bag's picks per lot, from its pack events not undone. Parameter: bag id. */
+const PICKS = `(select lot_id, cast(sum(qty) as signed) as q from bag_events
+    where bag_id = ? and kind = 'pack' and undone = 0 and lot_id is not null group by lot_id having sum(qty) > 0)`
+
 /**
  * Seals a fully packed bag in one transaction: the picks leave their lots (ledger 'pick', never below
  * zero), the order's reservations are consumed, the bag is sealed and the seal recorded. Like a pack,
  * it goes to MariaDB as one round trip ending in its commit, so the bag's and the lots' row locks are
  * held only while MariaDB runs it: first the checks, each under the lock of what it checks (the bag's
  * claim, every line packed, every lot still holding its picks), then the writes, each only if all
- * checks passed. A deadlock with another seal over shared lots is retried.
+ * checks passed (runBatch retries it when it loses a deadlock to another seal over shared lots).
  */
 export async function sealBag(db: Db, bagId: number, packer: Packer) {
-  for (let attempt = 1; ; attempt++) {
-    try {
-      return await sealInOneTrip(db, bagId, packer)
-    }
-    catch (err) {
-      if (attempt < 3 && (err as { code?: string }).code === 'ER_LOCK_DEADLOCK') continue
-      throw err
-    }
-  }
-}
-
-const PICKS = `(select lot_id, cast(sum(qty) as signed) as q from bag_events
-    where bag_id = ? and kind = 'pack' and undone = 0 and lot_id is not null group by lot_id having sum(qty) > 0)`
-
-async function sealInOneTrip(db: Db, bagId: number, packer: Packer) {
   const results = await runBatch(`set @kw_mine = 0, @kw_open = -1, @kw_lots = 0, @kw_ok = -1, @kw_go = 0;
 set transaction isolation level read committed;
 start transaction;
-select count(*) into @kw_mine from bags
-  where id = ? and state in ('open', 'packing') and (claimed_by is null or claimed_by = ? or claimed_at < now() - interval ? second) for update;
+select count(*) into @kw_mine from bags where ${CLAIMABLE} for update;
 select count(*) into @kw_open from bag_items where bag_id = ? and qty_packed < qty_needed;
 select count(*) into @kw_lots from ${PICKS} p;
 select count(*) into @kw_ok from lots l where l.id in (select lot_id from ${PICKS} p)
@@ -508,7 +510,7 @@ update reservations set state = 'consumed' where order_id = (select order_id fro
 insert into bag_events (bag_id, kind, user_id) select ?, 'seal', ? from dual where @kw_go;
 commit;
 select @kw_mine as mine, @kw_open as open, @kw_lots as lots, @kw_ok as ok, @kw_go as go;`, [
-    bagId, packer.id, CLAIM_LAPSE_SECONDS,
+    bagId, packer.id,
     bagId,
     bagId,
     bagId, bagId,

@@ -6,7 +6,7 @@ import { and, eq, gt, inArray, isNotNull, ne, or, sql } from 'drizzle-orm'
 import { createError } from 'h3'
 import * as schema from '../db/schema'
 import type { Db, Tx } from './db'
-import { availableByPart } from './stock'
+import { availableByPart, retryOnLockConflict } from './stock'
 import { loadSwapGroups, loadSwapSettings, toSwapPart, valueNear } from './catalogue'
 import { loadEffectiveBom } from './revision-bom'
 import type { OptionGroup } from '../../shared/utils/bom'
@@ -24,21 +24,9 @@ export interface KitDemand {
   partIds: number[]
 }
 
-const LOCK_ERRORS = new Set(['ER_LOCK_DEADLOCK', 'ER_LOCK_WAIT_TIMEOUT'])
-
 /** Runs fn in one READ COMMITTED transaction, retrying when MariaDB picks it as a deadlock victim. */
-export async function sellingTx<T>(db: Db, fn: (tx: Tx) => Promise<T>, attempts = 4): Promise<T> {
-  for (let i = 1; ; i++) {
-    try {
-      return await db.transaction(fn, { isolationLevel: 'read committed' })
-    }
-    catch (err) {
-      const code = (err as { cause?: { code?: string } }).cause?.code ?? (err as { code?: string }).code
-      if (!code || !LOCK_ERRORS.has(code)) throw err
-      if (i >= attempts) throw createError({ statusCode: 503, statusMessage: 'Busy', message: 'Many people are buying at once: please try again in a moment' })
-      await new Promise(r => setTimeout(r, 15 * i + Math.floor(Math.random() * 30)))
-    }
-  }
+export function sellingTx<T>(db: Db, fn: (tx: Tx) => Promise<T>, attempts = 4): Promise<T> {
+  return retryOnLockConflict(() => db.transaction(fn, { isolationLevel: 'read committed' }), { statusCode: 503, message: 'Many people are buying at once: please try again in a moment' }, attempts)
 }
 
 /**

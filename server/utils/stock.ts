@@ -111,23 +111,30 @@ type Runner = { transaction: <T>(fn: (tx: Tx) => Promise<T>) => Promise<T> }
 const LOCK_ERRORS = new Set(['ER_LOCK_DEADLOCK', 'ER_LOCK_WAIT_TIMEOUT'])
 
 /**
- * Runs fn in one transaction, retrying a few times when MariaDB picks it as a deadlock victim
- * (two moves between the same two bins in opposite directions lock the same lots in opposite order).
+ * Runs fn, retrying a few times when MariaDB picks it as a deadlock victim or a lock wait times out;
+ * after the last attempt such a failure becomes `busy` (409 unless said). For any work that locks
+ * several rows in an order another transaction may not share.
  */
-export async function runStockTx<T>(db: Runner, fn: (tx: Tx) => Promise<T>, attempts = 4): Promise<T> {
+export async function retryOnLockConflict<T>(fn: () => Promise<T>, busy: { message: string, statusCode?: number }, attempts = 4): Promise<T> {
   for (let i = 1; ; i++) {
     try {
-      return await db.transaction(fn)
+      return await fn()
     }
     catch (err) {
       const code = (err as { code?: string, cause?: { code?: string } }).cause?.code ?? (err as { code?: string }).code
-      if (!code || !LOCK_ERRORS.has(code) || i >= attempts) {
-        if (code && LOCK_ERRORS.has(code)) throw createError({ statusCode: 409, statusMessage: 'Busy', message: 'Someone else is moving this stock right now: try again' })
-        throw err
-      }
+      if (!code || !LOCK_ERRORS.has(code)) throw err
+      if (i >= attempts) throw createError({ statusCode: busy.statusCode ?? 409, statusMessage: 'Busy', message: busy.message })
       await new Promise(r => setTimeout(r, 10 * i + Math.floor(Math.random() * 20)))
     }
   }
+}
+
+/**
+ * Runs fn in one transaction, retrying it as a deadlock victim (two moves between the same two bins
+ * in opposite directions lock the same lots in opposite order).
+ */
+export function runStockTx<T>(db: Runner, fn: (tx: Tx) => Promise<T>, attempts = 4): Promise<T> {
+  return retryOnLockConflict(() => db.transaction(fn), { message: 'Someone else is moving this stock right now: try again' }, attempts)
 }
 
 function bad(message: string, field?: string): never {

@@ -21,10 +21,10 @@ export async function demoDayId(db: PackDb) {
   return day!.id
 }
 
-/** A build day of the test's own, offering every released demo revision. */
-export async function makeBuildDay(db: PackDb, name = `Packing test day ${tag()}`) {
+/** A build day of the test's own (fields as given, else a test hall's), offering every released demo revision. */
+export async function makeBuildDay(db: PackDb, name = `Packing test day ${tag()}`, fields: Partial<typeof schema.buildDays.$inferInsert> = {}) {
   const [day] = await db.insert(schema.buildDays).values({
-    name, date: '2027-06-12', venue: 'Test hall', seats: 500, salesOpenAt: new Date('2027-01-01T00:00:00Z'), salesCloseAt: new Date('2027-06-01T00:00:00Z'), currency: 'GBP',
+    name, date: '2027-06-12', venue: 'Test hall', seats: 500, salesOpenAt: new Date('2027-01-01T00:00:00Z'), salesCloseAt: new Date('2027-06-01T00:00:00Z'), currency: 'GBP', ...fields,
   }).$returningId()
   const revs = await db.select({ id: schema.revisions.id }).from(schema.revisions).where(eq(schema.revisions.state, 'released'))
   for (const r of revs) {
@@ -75,4 +75,21 @@ export async function stockLedgerMismatches(db: PackDb) {
   const [rows] = await db.execute(sql`select l.id, l.on_hand as onHand, coalesce(sum(g.qty), 0) as ledger
     from lots l left join ledger g on g.lot_id = l.id group by l.id, l.on_hand having l.on_hand <> coalesce(sum(g.qty), 0)`)
   return rows as unknown as { id: number, onHand: number, ledger: number }[]
+}
+
+/**
+ * Enough stock for a bench: one more lot of each part, in the part's own bin, received through the
+ * ledger by the demo organiser. An old `receivedOn` makes the station pack from it first, so the small
+ * demo lots are not raced to zero.
+ */
+export async function topUpStock(db: PackDb, lot: { qty: number, receivedOn: string, note: string }) {
+  const lots = await db.select().from(schema.lots)
+  const [organiser] = await db.select().from(schema.users).where(eq(schema.users.email, 'olwen.hartley@club.invalid'))
+  const seen = new Set<number>()
+  for (const l of lots) {
+    if (seen.has(l.partId)) continue
+    seen.add(l.partId)
+    const [made] = await db.insert(schema.lots).values({ partId: l.partId, binId: l.binId, qtyReceived: lot.qty, onHand: lot.qty, unitCostMinor: l.unitCostMinor, receivedOn: lot.receivedOn, note: lot.note }).$returningId()
+    await db.insert(schema.ledger).values({ lotId: made!.id, partId: l.partId, binId: l.binId, kind: 'receive', qty: lot.qty, userId: organiser!.id, reason: lot.note })
+  }
 }

@@ -112,3 +112,40 @@ it('a pack waiting on the lot counts the pack that held the lot before it, commi
   await conn.query('update lots set on_hand = on_hand + 1 where id = ?', [lotId])
   await conn.query('insert into ledger (lot_id, part_id, bin_id, kind, qty, user_id, reason) select id, part_id, bin_id, \'count\', 1, 1, \'race test: found on a count\' from lots where id = ?', [lotId])
 })
+
+it('twelve packers pack twelve bags of one kit at once: every scan answered, every bag sealed, stock equal to the ledger', async () => {
+  // Every pack of this kit wants the same eight lots, and every seal wants all of them at once.
+  const lines = Array.from({ length: 8 }, () => ({ qty: 1, stock: 60 }))
+  const day = await makeKitDay(conn, { seats: 20, lines })
+  const bags = await Promise.all(Array.from({ length: 12 }, () => paidBag(day.dayId, day.offeringId)))
+  const [[bin]] = await conn.query<any[]>('select b.code from bins b join lots l on l.bin_id = b.id where l.id = ?', [day.lotIds[0]])
+  const [[{ password_hash: hash }]] = await conn.query<any[]>('select password_hash from users where email = ?', [DEMO.packer])
+  const t = Date.now()
+  const packers = await Promise.all(bags.map(async (_, i) => {
+    const email = `race.crowd.${t}.${i}@club.invalid`
+    const [u] = await conn.query<any>('insert into users (email, name, password_hash) values (?, ?, ?)', [email, `Crowd Packer ${i}`, hash])
+    await conn.query('insert into user_roles (user_id, role) values (?, ?)', [u.insertId, 'packer'])
+    return new Client(base).login(email)
+  }))
+
+  const statuses: number[] = []
+  await Promise.all(bags.map(async (bag, i) => {
+    const p = packers[i]!
+    const claim = await p.post('/api/pack/scan', { text: labelUrl(base, 'bag', bag.code, secret), buildDayId: day.dayId })
+    statuses.push(claim.status)
+    const [items] = await conn.query<any[]>('select id from bag_items where bag_id = ? order by id', [bag.id])
+    // Each packer walks the lines from a different start, so the packs cross.
+    for (let k = 0; k < items.length; k++) {
+      const item = items[(k + i) % items.length]
+      const res = await p.post('/api/pack/scan', { text: signCode('bin', bin.code, secret), buildDayId: day.dayId, bagId: bag.id, itemId: item.id, qty: 1 })
+      statuses.push(res.status)
+    }
+  }))
+
+  expect(statuses.filter(s => s !== 200), 'every scan answered 200').toEqual([])
+  const [states] = await conn.query<any[]>('select state, count(*) as n from bags where id in (?) group by state', [bags.map(b => b.id)])
+  expect(states).toEqual([{ state: 'sealed', n: 12 }])
+  const [lots] = await conn.query<any[]>(`select l.id, l.on_hand, cast(sum(g.qty) as signed) as ledger from lots l join ledger g on g.lot_id = l.id
+    where l.id in (?) group by l.id, l.on_hand order by l.id`, [day.lotIds])
+  expect(lots.map((l: any) => [l.on_hand, Number(l.ledger)])).toEqual(day.lotIds.map(() => [48, 48]))
+})

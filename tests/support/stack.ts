@@ -117,7 +117,10 @@ export async function startApp(env: Record<string, string>, port?: number): Prom
     child.kill('SIGKILL')
     throw new Error(`${(err as Error).message}\n--- app log ---\n${log.slice(-4000)}`)
   }
-  if (process.env.KW_TEST_APP_LOG) child.stdout!.pipe(process.stdout)
+  if (process.env.KW_TEST_APP_LOG) {
+    child.stdout!.pipe(process.stdout)
+    child.stderr!.pipe(process.stderr)
+  }
   return {
     port: p,
     url,
