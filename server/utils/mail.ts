@@ -5,7 +5,11 @@ let transport: Transporter | undefined
 /** Sends one e-mail through the configured SMTP relay (the fake inbox by default). */
 export async function sendMail(msg: { to: string, subject: string, text: string, html?: string, attachments?: { filename: string, content: Buffer | string, contentType?: string }[] }) {
   const { smtp } = useRuntimeConfig()
+  // A pool keeps a few SMTP connections open between messages, so a report or an order does not
+  // wait for a new connection and greeting each time (nodemailer's own pooled transport).
   transport ??= nodemailer.createTransport({
+    pool: true,
+    maxConnections: 3,
     host: smtp.host,
     port: Number(smtp.port),
     secure: false,
