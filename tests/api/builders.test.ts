@@ -62,6 +62,24 @@ describe('my kit', () => {
     expect(res.body.safety.notes.some((n: string) => /amateur radio licence/.test(n))).toBe(true)
   })
 
+  it('names the options of my order in the order I chose them, on my orders and my bag', async () => {
+    const [group] = await db.insert(schema.optionGroups).values({ revisionId: kit.revA, name: 'Extras', rule: 'zero-or-one' }).$returningId()
+    const [first] = await db.insert(schema.options).values({ groupId: group!.id, revisionId: kit.revA, name: 'Headphone socket', sortOrder: 1 }).$returningId()
+    const [second] = await db.insert(schema.options).values({ groupId: group!.id, revisionId: kit.revA, name: 'Side-tone trimmer', sortOrder: 2 }).$returningId()
+    const cai = await makeBuilder(db, 'Cai Builder')
+    const caiBag = await makeBag(db, kit, cai.id, { seat: 35 })
+    // The later option first, so a list sorted by id or by name would show up; a missing id is left out.
+    await db.update(schema.orders).set({ optionIds: [second!.id, 999_999, first!.id] }).where(eq(schema.orders.id, caiBag.orderId))
+    const asCai = await signedIn(base, cai.email)
+    const orders = await asCai.get('/api/my/orders')
+    expect(orders.body.orders[0]).toMatchObject({ id: caiBag.orderId, options: ['Side-tone trimmer', 'Headphone socket'], revisionLabel: 'A' })
+    const bag = await asCai.get(`/api/my/bags/${caiBag.bagId}`)
+    expect(bag.body.order.options).toEqual(['Side-tone trimmer', 'Headphone socket'])
+    // An order without options names none.
+    expect((await asAnn.get('/api/my/orders')).body.orders[0].options).toEqual([])
+    expect((await asAnn.get(`/api/my/bags/${annBag.bagId}`)).body.order.options).toEqual([])
+  })
+
   it("gives 404 for another builder's bag and workbook, and to a packer on the builder's route", async () => {
     expect((await asBen.get(`/api/my/bags/${annBag.bagId}`)).status).toBe(404)
     expect((await asBen.get(`/api/my/bags/${annBag.bagId}/workbook`)).status).toBe(404)
@@ -208,6 +226,8 @@ describe('rework after a new revision', () => {
     const asCarl = await signedIn(base, carl.email)
     const view = await asCarl.get(`/api/my/bags/${carlBag.bagId}`)
     expect(view.body.revision.label).toBe('B')
+    // The orders list names the revision the bag is packed to, not the one on sale when it was bought.
+    expect((await asCarl.get('/api/my/orders')).body.orders[0]).toMatchObject({ bag: { id: carlBag.bagId }, revisionLabel: 'B' })
     const items = view.body.stages.flatMap((s: { items: unknown[] }) => s.items) as { designators: string, part: { name: string }, standIn: { name: string } | null, qtyNeeded: number, qtyPacked: number }[]
     expect(items.map(i => i.designators).sort()).toEqual(['D1', 'HW1', 'PCB1', 'Q1', 'R1, R2'])
     expect(items.find(i => i.designators === 'R1, R2')!.part.name).toBe(rk.partNames.r2k2)
@@ -222,6 +242,7 @@ describe('rework after a new revision', () => {
     expect(res.status).toBe(200)
     const [bag] = await db.select().from(schema.bags).where(eq(schema.bags.id, doraBag.bagId))
     expect(bag).toMatchObject({ reworkState: 'kept', revisionId: rk.revA })
+    expect((await (await signedIn(base, dora.email)).get('/api/my/orders')).body.orders[0]).toMatchObject({ bag: { id: doraBag.bagId }, revisionLabel: 'A' })
     expect(await db.select().from(schema.ledger).where(and(eq(schema.ledger.bagId, doraBag.bagId), eq(schema.ledger.kind, 'rework')))).toEqual([])
     const list = await asOrganiser.get('/api/rework')
     expect(list.body.kits.some((k: { kitId: number }) => k.kitId === rk.kitId)).toBe(false)
