@@ -59,6 +59,8 @@ test('receive by scanning a bin label, reconcile a short target, download a buy 
   await page.getByLabel('Bin').fill(labelUrl(env.base, 'bin', bin, env.labelSecret))
   await page.getByLabel('Bin').press('Enter')
   await expect(page.getByTestId('receive-bin-bin')).toContainText(bin)
+  // The part search gives its hint to screen readers as the field's description (its error, when it has one).
+  await expect(page.getByLabel('Part', { exact: true })).toHaveAccessibleDescription('Search by value or name: 4k7, 100n, crystal')
   await page.getByLabel('Part', { exact: true }).fill(names.x40)
   await page.getByRole('button', { name: names.x40 }).click()
   await page.getByLabel('Quantity').fill('8')
