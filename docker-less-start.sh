@@ -194,6 +194,9 @@ EOF
     export KW_BUILD_DIR=${KW_BUILD_DIR:-$ROOT/.build/test}
     build_app
     status=0
+    say "Type check (vue-tsc: the app's pages and components, then the server)"
+    npx vue-tsc --noEmit -p "$KW_BUILD_DIR/.nuxt/tsconfig.app.json" || status=1
+    npx vue-tsc --noEmit -p "$KW_BUILD_DIR/.nuxt/tsconfig.server.json" || status=1
     say "Unit tests"
     npx vitest run --project unit || status=1
     say "API tests (built server, fresh MariaDB database, fakes)"
