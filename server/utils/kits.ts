@@ -600,6 +600,8 @@ export interface CommitInput extends ImportInput {
   label?: string | null
   notes?: string | null
   decisions?: Record<string, RowDecision>
+  /** Copy the parent revision's option groups, options and option lines into the new draft. */
+  carryOptions?: boolean
 }
 
 const IMPORT_FIELDS = ['designators', 'qty', 'value', 'package', 'description', 'mpn', 'stage', 'notes', 'ignore'] as const
@@ -626,6 +628,7 @@ export const importCommitSchema = z.object({
     z.object({ create: z.literal(true) }),
     z.object({ keepText: z.literal(true) }),
   ])).optional(),
+  carryOptions: z.boolean().optional(),
 }).and(importBodySchema)
 
 /** Applies the preview's edits and skips to the raw cells (a field without a column gets one). */
@@ -770,14 +773,101 @@ export async function commitImport(db: AnyDb, kitId: number, input: CommitInput,
         }
       })
       for (let i = 0; i < values.length; i += 500) await tx.insert(schema.bomLines).values(values.slice(i, i + 500))
-      await tx.insert(schema.auditLog).values({ userId, action: 'bom.import', subjectType: 'revision', subjectId: String(rev!.id), detail: { kitId, label, file: input.fileName ?? null, lines: values.length, newParts: newIds.size } })
-      return { id: rev!.id, label, lines: values.length, newParts: newIds.size }
+      const carried = input.carryOptions && parent ? await carryOptionsInto(tx, parent.id, rev!.id) : null
+      await tx.insert(schema.auditLog).values({ userId, action: 'bom.import', subjectType: 'revision', subjectId: String(rev!.id), detail: { kitId, label, file: input.fileName ?? null, lines: values.length, newParts: newIds.size, carriedOptions: carried ? { from: carried.from, groups: carried.groups, options: carried.options, lines: carried.lines } : null } })
+      return { id: rev!.id, label, lines: values.length, newParts: newIds.size, carried }
     })
   }
   catch (e) {
     if (isDuplicate(e)) fail(409, `This kit already has a revision labelled "${input.label}"; choose another label.`)
     throw e
   }
+}
+
+/** A designator list in one canonical spelling (sorted, runs compressed), or the text as typed when it does not read. */
+function canonicalDesignators(text: string) {
+  try {
+    return compressDesignators(expandDesignators(text))
+  }
+  catch {
+    return text.trim()
+  }
+}
+
+/** What the kit's newest revision offers as options: shown beside an import so the organiser can carry them over. */
+export async function parentOptionsOfImport(db: Reader, kitId: number) {
+  const [parent] = await db.select({ id: schema.revisions.id, label: schema.revisions.label }).from(schema.revisions).where(eq(schema.revisions.kitId, kitId)).orderBy(desc(schema.revisions.id)).limit(1)
+  if (!parent) return null
+  const [groups, opts, [lines]] = await Promise.all([
+    db.select().from(schema.optionGroups).where(eq(schema.optionGroups.revisionId, parent.id)).orderBy(asc(schema.optionGroups.sortOrder), asc(schema.optionGroups.id)),
+    db.select().from(schema.options).where(eq(schema.options.revisionId, parent.id)).orderBy(asc(schema.options.sortOrder), asc(schema.options.id)),
+    db.select({ n: sql<number>`count(*)` }).from(schema.bomLines).where(and(eq(schema.bomLines.revisionId, parent.id), sql`${schema.bomLines.optionId} is not null`)),
+  ])
+  if (!groups.length) return null
+  return {
+    revisionId: parent.id, label: parent.label, lines: Number(lines?.n ?? 0),
+    groups: groups.map(g => ({ name: g.name, rule: g.rule, options: opts.filter(o => o.groupId === g.id).map(o => o.name) })),
+  }
+}
+
+/**
+ * Copies the option groups, options and option lines of `fromId` into an imported draft whose base
+ * lines are already written. An option line that replaces or removes a base line is linked to the
+ * imported line with the same designators; where the import has no such line the link is dropped
+ * (the option line then adds its part) and said in `dropped`, for the organiser to check on the draft.
+ */
+async function carryOptionsInto(tx: AnyTx, fromId: number, toId: number) {
+  const [[from], groups, opts, oldLines, newBase, newStages] = await Promise.all([
+    tx.select({ label: schema.revisions.label }).from(schema.revisions).where(eq(schema.revisions.id, fromId)),
+    tx.select().from(schema.optionGroups).where(eq(schema.optionGroups.revisionId, fromId)).orderBy(asc(schema.optionGroups.id)),
+    tx.select().from(schema.options).where(eq(schema.options.revisionId, fromId)).orderBy(asc(schema.options.id)),
+    tx.select().from(schema.bomLines).where(eq(schema.bomLines.revisionId, fromId)).orderBy(asc(schema.bomLines.sortOrder), asc(schema.bomLines.id)),
+    tx.select({ id: schema.bomLines.id, designators: schema.bomLines.designators, sortOrder: schema.bomLines.sortOrder }).from(schema.bomLines).where(eq(schema.bomLines.revisionId, toId)),
+    tx.select({ id: schema.stages.id, name: schema.stages.name }).from(schema.stages).where(eq(schema.stages.revisionId, toId)),
+  ])
+  const result = { from: from?.label ?? '', groups: 0, options: 0, lines: 0, dropped: [] as string[] }
+  if (!groups.length) return result
+  const oldStageNames = new Map((await tx.select({ id: schema.stages.id, name: schema.stages.name }).from(schema.stages).where(eq(schema.stages.revisionId, fromId))).map(st => [st.id, st.name.toLowerCase()]))
+  const stageByName = new Map(newStages.map(st => [st.name.toLowerCase(), st.id]))
+  const baseByDesignators = new Map<string, number>()
+  for (const l of newBase) if (l.designators && !baseByDesignators.has(canonicalDesignators(l.designators))) baseByDesignators.set(canonicalDesignators(l.designators), l.id)
+  const oldById = new Map(oldLines.map(l => [l.id, l]))
+
+  const groupMap = new Map<number, number>()
+  for (const g of groups) {
+    const [row] = await tx.insert(schema.optionGroups).values({ revisionId: toId, name: g.name, rule: g.rule, sortOrder: g.sortOrder }).$returningId()
+    groupMap.set(g.id, row!.id)
+  }
+  const optionMap = new Map<number, number>()
+  const optionName = new Map<number, string>()
+  for (const o of opts) {
+    const [row] = await tx.insert(schema.options).values({ revisionId: toId, groupId: groupMap.get(o.groupId)!, name: o.name, sortOrder: o.sortOrder }).$returningId()
+    optionMap.set(o.id, row!.id)
+    optionName.set(o.id, o.name)
+  }
+  // The base line an option line points at, found in the import by its designators.
+  const relink = (oldId: number | null, line: typeof oldLines[number], verb: string) => {
+    if (!oldId) return null
+    const target = oldById.get(oldId)
+    const found = target ? baseByDesignators.get(canonicalDesignators(target.designators)) : undefined
+    if (found) return found
+    result.dropped.push(`${optionName.get(line.optionId!) ?? 'An option'}: ${line.designators || 'a line'} ${verb} ${target?.designators || 'a line'}, which this import does not have`)
+    return null
+  }
+  let sortOrder = newBase.reduce((m, l) => Math.max(m, l.sortOrder), 0)
+  for (const l of oldLines) {
+    if (l.optionId == null || !optionMap.has(l.optionId)) continue
+    await tx.insert(schema.bomLines).values({
+      revisionId: toId, designators: l.designators, qty: l.qty, partId: l.partId, valueText: l.valueText,
+      stageId: l.stageId ? stageByName.get(oldStageNames.get(l.stageId) ?? '') ?? null : null, noStandIns: l.noStandIns, notes: l.notes,
+      optionId: optionMap.get(l.optionId)!, sortOrder: ++sortOrder,
+      replacesLineId: relink(l.replacesLineId, l, 'replaced'), removesLineId: relink(l.removesLineId, l, 'removed'),
+    })
+    result.lines++
+  }
+  result.groups = groupMap.size
+  result.options = optionMap.size
+  return result
 }
 
 // ---- the workbook's input ----

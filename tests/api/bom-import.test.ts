@@ -265,3 +265,84 @@ describe('commit: all rows or none', () => {
     expect(diff.changed.map((c: any) => [c.after.designators, c.fields])).toEqual(expect.arrayContaining([['C1-C3', ['qty']], ['R7, R8', ['part']]]))
   })
 })
+
+describe('carrying the options of the newest revision into an import', () => {
+  let optKit: number
+  let revA: number
+  // Revision A's base lines, and its options: a band set (80 m replaces the 40 m crystal X1), an
+  // add-on that adds J2, and a low-power build that removes R9 (the next file has no R9).
+  const fileA = ['Ref,Qty,Value', `X1,1,XA${tag}`, `R9,1,RA${tag}`, `J1,1,JA${tag}`].join('\r\n')
+  const fileB = ['Ref,Qty,Value', `X1,1,XB${tag}`, `J1,1,JB${tag}`, `L1,1,LB${tag}`].join('\r\n')
+  async function importFile(text: string, extra: Record<string, unknown> = {}) {
+    const form = new FormData()
+    form.append('file', new Blob([text], { type: 'text/csv' }), 'options.csv')
+    const t = (await org.post(`/api/kits/${optKit}/import/file`, form)).body
+    const preview = (await org.post(`/api/kits/${optKit}/import/preview`, t)).body
+    const keep = Object.fromEntries(preview.rows.map((r: { rowNumber: number }) => [r.rowNumber, { keepText: true }]))
+    return { preview, commit: await org.post(`/api/kits/${optKit}/import/commit`, { ...t, decisions: keep, ...extra }) }
+  }
+  async function insert(table: string, fields: Record<string, unknown>) {
+    const cols = Object.keys(fields)
+    const [res] = await db.query(`insert into ${table} (${cols.join(', ')}) values (${cols.map(() => '?').join(', ')})`, Object.values(fields)) as [mysql.ResultSetHeader, unknown]
+    return res.insertId
+  }
+
+  beforeAll(async () => {
+    optKit = (await org.post('/api/kits', { name: `Plover ${tag}` })).body.kit.id
+    const { commit } = await importFile(fileA)
+    expect(commit.status, JSON.stringify(commit.body)).toBe(201)
+    revA = commit.body.id
+    const [lines] = await db.query('select id, designators from bom_lines where revision_id = ?', [revA]) as [{ id: number, designators: string }[], unknown]
+    const base = Object.fromEntries(lines.map(l => [l.designators, l.id]))
+    const band = await insert('option_groups', { revision_id: revA, name: 'Band', rule: 'one', sort_order: 1 })
+    const extras = await insert('option_groups', { revision_id: revA, name: 'Extras', rule: 'zero-or-one', sort_order: 2 })
+    await insert('options', { group_id: band, revision_id: revA, name: '40 m', sort_order: 1 })
+    const m80 = await insert('options', { group_id: band, revision_id: revA, name: '80 m', sort_order: 2 })
+    const phones = await insert('options', { group_id: extras, revision_id: revA, name: 'Headphone socket', sort_order: 1 })
+    const quiet = await insert('options', { group_id: extras, revision_id: revA, name: 'Low power', sort_order: 2 })
+    await insert('bom_lines', { revision_id: revA, designators: 'X1', qty: 1, value_text: `X80${tag}`, option_id: m80, replaces_line_id: base.X1, sort_order: 10 })
+    await insert('bom_lines', { revision_id: revA, designators: 'J2', qty: 1, value_text: `J2${tag}`, option_id: phones, sort_order: 11 })
+    await insert('bom_lines', { revision_id: revA, designators: 'R9', qty: 1, value_text: `R9${tag}`, option_id: quiet, removes_line_id: base.R9, sort_order: 12 })
+  })
+
+  it('shows the newest revision\'s options beside the preview', async () => {
+    const form = new FormData()
+    form.append('file', new Blob([fileB], { type: 'text/csv' }), 'b.csv')
+    const t = (await org.post(`/api/kits/${optKit}/import/file`, form)).body
+    const res = await org.post(`/api/kits/${optKit}/import/preview`, t)
+    expect(res.status).toBe(200)
+    expect(res.body.parentOptions).toEqual({
+      revisionId: revA, label: 'A', lines: 3,
+      groups: [{ name: 'Band', rule: 'one', options: ['40 m', '80 m'] }, { name: 'Extras', rule: 'zero-or-one', options: ['Headphone socket', 'Low power'] }],
+    })
+    // The first import of a kit has nothing to carry.
+    expect((await org.post(`/api/kits/${kitId}/import/preview`, await table())).body.parentOptions).toBeNull()
+  })
+
+  it('copies groups, options and option lines, relinking a replaced line by its designators and saying which link it dropped', async () => {
+    const { commit } = await importFile(fileB, { carryOptions: true, label: 'B' })
+    expect(commit.status, JSON.stringify(commit.body)).toBe(201)
+    expect(commit.body.carried).toEqual({ from: 'A', groups: 2, options: 4, lines: 3, dropped: [expect.stringMatching(/^Low power: R9 removed R9, which this import does not have$/)] })
+    const d = (await org.get(`/api/revisions/${commit.body.id}`)).body
+    expect(d.groups.map((g: { name: string, rule: string, options: { name: string }[] }) => [g.name, g.rule, g.options.map(o => o.name)]))
+      .toEqual([['Band', 'one', ['40 m', '80 m']], ['Extras', 'zero-or-one', ['Headphone socket', 'Low power']]])
+    const byText = Object.fromEntries(d.lines.map((l: { valueText: string }) => [l.valueText, l])) as Record<string, { id: number, optionId: number | null, replacesLineId: number | null, removesLineId: number | null }>
+    const optionId = (name: string) => d.groups.flatMap((g: { options: { id: number, name: string }[] }) => g.options).find((o: { name: string }) => o.name === name).id
+    // The 80 m crystal replaces B's own X1, not A's.
+    expect(byText[`X80${tag}`]).toMatchObject({ optionId: optionId('80 m'), replacesLineId: byText[`XB${tag}`]!.id })
+    expect(byText[`J2${tag}`]).toMatchObject({ optionId: optionId('Headphone socket'), replacesLineId: null, removesLineId: null })
+    expect(byText[`R9${tag}`]).toMatchObject({ optionId: optionId('Low power'), removesLineId: null })
+    // A is untouched: its own three option lines still point at its own lines.
+    const [aLines] = await db.query('select count(*) n from bom_lines where revision_id = ? and option_id is not null', [revA]) as [{ n: number }[], unknown]
+    expect(Number(aLines[0]!.n)).toBe(3)
+  })
+
+  it('leaves the options behind when not asked to carry them', async () => {
+    const { commit } = await importFile(fileB, { label: 'C' })
+    expect(commit.status).toBe(201)
+    expect(commit.body.carried).toBeNull()
+    const d = (await org.get(`/api/revisions/${commit.body.id}`)).body
+    expect(d.groups).toEqual([])
+    expect(d.lines).toHaveLength(3)
+  })
+})

@@ -161,4 +161,44 @@ test.describe('kits and BOM revisions', () => {
     await expect(page.locator('th[scope=rowgroup]').first()).toContainText('Power and regulator')
     await expect(page.getByRole('link', { name: 'Download workbook (.xlsx)' })).toBeVisible()
   })
+
+  test('a new BOM for a kit with options carries them over, the replaced crystal found by its designator', async ({ page }) => {
+    test.setTimeout(120_000)
+    await page.setViewportSize(PHONE)
+    await signIn(page, DEMO.organiser)
+    // Revision A through the API: base lines X1 and J1, and a band set whose 80 m option replaces X1.
+    const post = async (url: string, data: object) => {
+      const res = await page.request.post(url, { data })
+      expect(res.status(), `${url}: ${await res.text()}`).toBe(201)
+      return res.json()
+    }
+    const kit = (await post('/api/kits', { name: `Sandpiper ${tag}` })).kit
+    const a = await post(`/api/kits/${kit.id}/revisions`, {})
+    const x1 = await post(`/api/revisions/${a.id}/lines`, { designators: 'X1', qty: 1, valueText: `XT40-${tag}` })
+    await post(`/api/revisions/${a.id}/lines`, { designators: 'J1', qty: 1, valueText: `JK-${tag}` })
+    const band = await post(`/api/revisions/${a.id}/option-groups`, { name: 'Band', rule: 'one' })
+    await post(`/api/revisions/${a.id}/option-groups/${band.id}/options`, { name: '40 m' })
+    const m80 = await post(`/api/revisions/${a.id}/option-groups/${band.id}/options`, { name: '80 m' })
+    await post(`/api/revisions/${a.id}/lines`, { designators: 'X1', qty: 1, valueText: `XT80-${tag}`, optionId: m80.id, replacesLineId: x1.id })
+
+    // The designer's next file: lines only.
+    await page.goto(`/kits/${kit.id}/import`)
+    await page.getByTestId('bom-file').setInputFiles({ name: 'sandpiper-b.csv', mimeType: 'text/csv', buffer: Buffer.from(['Ref,Qty,Value', `X1,1,XT40-${tag}`, `J1,1,JK-${tag}`, `L1,1,LC-${tag}`].join('\r\n')) })
+    await page.getByRole('button', { name: 'Preview the rows' }).click()
+    const carry = page.getByRole('checkbox', { name: 'Carry over the options of revision A' })
+    await expect(carry).toBeChecked()
+    await expect(page.getByTestId('carry-options')).toContainText('Band (one of 40 m, 80 m), with 1 option line')
+    await expect(carry).toHaveAccessibleDescription(/Band \(one of 40 m, 80 m\)/)
+    await page.getByTestId('commit-import').click()
+
+    await expect(page.getByRole('heading', { name: 'Revision B' })).toBeVisible()
+    await expect(page.getByText('options of A carried over (2 options, 1 option line)')).toBeVisible()
+    const b = await (await page.request.get(page.url().replace(/.*\/revisions\//, '/api/revisions/'))).json()
+    type Line = { id: number, designators: string, optionId: number | null, replacesLineId: number | null }
+    expect(b.groups.map((g: { name: string, options: { name: string }[] }) => [g.name, g.options.map(o => o.name)])).toEqual([['Band', ['40 m', '80 m']]])
+    const baseX1 = b.lines.find((l: Line) => l.designators === 'X1' && l.optionId == null)
+    const optionX1 = b.lines.find((l: Line) => l.designators === 'X1' && l.optionId != null)
+    expect(baseX1.id).not.toBe(x1.id)
+    expect(optionX1.replacesLineId).toBe(baseX1.id)
+  })
 })
