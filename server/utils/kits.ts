@@ -126,12 +126,31 @@ export async function requireRevision(db: Reader, revisionId: number): Promise<R
   return rev
 }
 
-/** Copies stages, option groups, options and lines (with their replace/remove links) into another revision. */
-async function copyContents(tx: AnyTx, fromId: number, toId: number) {
-  const [stages, groups, opts, lines] = await Promise.all([
-    tx.select().from(schema.stages).where(eq(schema.stages.revisionId, fromId)).orderBy(asc(schema.stages.id)),
+/** Copies a revision's option groups and options into another; the maps take old ids to new, and option ids to names. */
+async function copyOptionGroups(tx: AnyTx, fromId: number, toId: number) {
+  const [groups, opts] = await Promise.all([
     tx.select().from(schema.optionGroups).where(eq(schema.optionGroups.revisionId, fromId)).orderBy(asc(schema.optionGroups.id)),
     tx.select().from(schema.options).where(eq(schema.options.revisionId, fromId)).orderBy(asc(schema.options.id)),
+  ])
+  const groupMap = new Map<number, number>()
+  for (const g of groups) {
+    const [row] = await tx.insert(schema.optionGroups).values({ revisionId: toId, name: g.name, rule: g.rule, sortOrder: g.sortOrder }).$returningId()
+    groupMap.set(g.id, row!.id)
+  }
+  const optionMap = new Map<number, number>()
+  const optionName = new Map<number, string>()
+  for (const o of opts) {
+    const [row] = await tx.insert(schema.options).values({ revisionId: toId, groupId: groupMap.get(o.groupId)!, name: o.name, sortOrder: o.sortOrder }).$returningId()
+    optionMap.set(o.id, row!.id)
+    optionName.set(o.id, o.name)
+  }
+  return { groupMap, optionMap, optionName }
+}
+
+/** Copies stages, option groups, options and lines (with their replace/remove links) into another revision. */
+async function copyContents(tx: AnyTx, fromId: number, toId: number) {
+  const [stages, lines] = await Promise.all([
+    tx.select().from(schema.stages).where(eq(schema.stages.revisionId, fromId)).orderBy(asc(schema.stages.id)),
     tx.select().from(schema.bomLines).where(eq(schema.bomLines.revisionId, fromId)).orderBy(asc(schema.bomLines.id)),
   ])
   const stageMap = new Map<number, number>()
@@ -139,16 +158,7 @@ async function copyContents(tx: AnyTx, fromId: number, toId: number) {
     const [row] = await tx.insert(schema.stages).values({ revisionId: toId, name: s.name, sortOrder: s.sortOrder }).$returningId()
     stageMap.set(s.id, row!.id)
   }
-  const groupMap = new Map<number, number>()
-  for (const g of groups) {
-    const [row] = await tx.insert(schema.optionGroups).values({ revisionId: toId, name: g.name, rule: g.rule, sortOrder: g.sortOrder }).$returningId()
-    groupMap.set(g.id, row!.id)
-  }
-  const optionMap = new Map<number, number>()
-  for (const o of opts) {
-    const [row] = await tx.insert(schema.options).values({ revisionId: toId, groupId: groupMap.get(o.groupId)!, name: o.name, sortOrder: o.sortOrder }).$returningId()
-    optionMap.set(o.id, row!.id)
-  }
+  const { optionMap } = await copyOptionGroups(tx, fromId, toId)
   const lineMap = new Map<number, number>()
   for (const l of lines) {
     const [row] = await tx.insert(schema.bomLines).values({
@@ -817,34 +827,22 @@ export async function parentOptionsOfImport(db: Reader, kitId: number) {
  * (the option line then adds its part) and said in `dropped`, for the organiser to check on the draft.
  */
 async function carryOptionsInto(tx: AnyTx, fromId: number, toId: number) {
-  const [[from], groups, opts, oldLines, newBase, newStages] = await Promise.all([
+  const [[from], [hasGroups], oldLines, newBase, newStages] = await Promise.all([
     tx.select({ label: schema.revisions.label }).from(schema.revisions).where(eq(schema.revisions.id, fromId)),
-    tx.select().from(schema.optionGroups).where(eq(schema.optionGroups.revisionId, fromId)).orderBy(asc(schema.optionGroups.id)),
-    tx.select().from(schema.options).where(eq(schema.options.revisionId, fromId)).orderBy(asc(schema.options.id)),
+    tx.select({ id: schema.optionGroups.id }).from(schema.optionGroups).where(eq(schema.optionGroups.revisionId, fromId)).limit(1),
     tx.select().from(schema.bomLines).where(eq(schema.bomLines.revisionId, fromId)).orderBy(asc(schema.bomLines.sortOrder), asc(schema.bomLines.id)),
     tx.select({ id: schema.bomLines.id, designators: schema.bomLines.designators, sortOrder: schema.bomLines.sortOrder }).from(schema.bomLines).where(eq(schema.bomLines.revisionId, toId)),
     tx.select({ id: schema.stages.id, name: schema.stages.name }).from(schema.stages).where(eq(schema.stages.revisionId, toId)),
   ])
   const result = { from: from?.label ?? '', groups: 0, options: 0, lines: 0, dropped: [] as string[] }
-  if (!groups.length) return result
+  if (!hasGroups) return result
   const oldStageNames = new Map((await tx.select({ id: schema.stages.id, name: schema.stages.name }).from(schema.stages).where(eq(schema.stages.revisionId, fromId))).map(st => [st.id, st.name.toLowerCase()]))
   const stageByName = new Map(newStages.map(st => [st.name.toLowerCase(), st.id]))
   const baseByDesignators = new Map<string, number>()
   for (const l of newBase) if (l.designators && !baseByDesignators.has(canonicalDesignators(l.designators))) baseByDesignators.set(canonicalDesignators(l.designators), l.id)
   const oldById = new Map(oldLines.map(l => [l.id, l]))
 
-  const groupMap = new Map<number, number>()
-  for (const g of groups) {
-    const [row] = await tx.insert(schema.optionGroups).values({ revisionId: toId, name: g.name, rule: g.rule, sortOrder: g.sortOrder }).$returningId()
-    groupMap.set(g.id, row!.id)
-  }
-  const optionMap = new Map<number, number>()
-  const optionName = new Map<number, string>()
-  for (const o of opts) {
-    const [row] = await tx.insert(schema.options).values({ revisionId: toId, groupId: groupMap.get(o.groupId)!, name: o.name, sortOrder: o.sortOrder }).$returningId()
-    optionMap.set(o.id, row!.id)
-    optionName.set(o.id, o.name)
-  }
+  const { groupMap, optionMap, optionName } = await copyOptionGroups(tx, fromId, toId)
   // The base line an option line points at, found in the import by its designators.
   const relink = (oldId: number | null, line: typeof oldLines[number], verb: string) => {
     if (!oldId) return null
