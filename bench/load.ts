@@ -254,6 +254,10 @@ function percentile(sorted: number[], p: number) {
   return sorted[Math.min(sorted.length - 1, Math.ceil((p / 100) * sorted.length) - 1)]!
 }
 
+/** Replies that were not 2xx, and requests that got no reply. */
+function failures(s: RouteStats) {
+  return [...s.statuses].filter(([code]) => code < 200 || code > 299).reduce((n, [, c]) => n + c, 0) + s.socketErrors
+}
 
 function report(phase: string, stats: Stats, seconds: number, cpu: Cpu) {
   const share = (v: number) => `${v.toFixed(1)} s (${(100 * v / seconds).toFixed(0)} % of a core)`
@@ -265,7 +269,7 @@ function report(phase: string, stats: Stats, seconds: number, cpu: Cpu) {
   for (const route of Object.keys(ROUTES) as Route[]) {
     const s = stats[route]
     const sorted = [...s.times].sort((a, b) => a - b)
-    const bad = [...s.statuses].filter(([code]) => code < 200 || code > 299).reduce((n, [, c]) => n + c, 0) + s.socketErrors
+    const bad = failures(s)
     total += sorted.length
     errors += bad
     const ms = (v: number) => (Number.isNaN(v) ? '–' : `${v.toFixed(1)}`).padStart(9)
@@ -435,7 +439,7 @@ async function main() {
       if (warm) {
         const all = Object.values(measured.outside)
         const times = all.flatMap(x => x.times).sort((a, b) => a - b)
-        const bad = all.reduce((n, x) => n + [...x.statuses].filter(([code]) => code < 200 || code > 299).reduce((m, [, c]) => m + c, 0), 0)
+        const bad = all.reduce((n, x) => n + failures(x), 0)
         console.log(`warm-up and cool-down (first ${warm} s and last ${cool} s, not in the figures above; their errors count): ${times.length} requests, median ${percentile(times, 50).toFixed(1)} ms, p95 ${percentile(times, 95).toFixed(1)} ms, max ${(times.at(-1) ?? 0).toFixed(1)} ms, ${bad} errors; this bench's own event loop in the warm-up: max ${(warmLoop.max / 1e6).toFixed(0)} ms`)
         r.errors += bad
       }

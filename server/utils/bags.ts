@@ -157,7 +157,7 @@ export async function headersFromRows(db: AnyDb, rows: BagHeaderRow[]) {
 
 /**
  * The same header and items as loadBagHeaders and loadBagItems, as plain SQL text for one bag (the
- * packing station sends them with other statements in one round trip); rowsToHeader and rowsToItems
+ * packing station sends them with other statements in one round trip); rawHeaderRow and rawItemRows
  * turn their rows into the same shapes.
  */
 export function oneBagReadSql(lapseSeconds: number) {
@@ -189,15 +189,14 @@ export function rawHeaderRow(r: Record<string, unknown>): BagHeaderRow {
 
 /** Raw item rows (mysql2, no Drizzle) in loadBagItems' shape and order. */
 export function rawItemRows(rows: Record<string, unknown>[]): BagItemRow[] {
-  return (rows as unknown as BagItemRow[]).map(r => ({ ...r, noStandIns: Boolean(Number(r.noStandIns)) }))
-    .sort((a, b) => (orderKey(a.stageOrder) - orderKey(b.stageOrder)) || (a.lineOrder - b.lineOrder) || (a.itemId - b.itemId))
+  return inPouchOrder((rows as unknown as BagItemRow[]).map(r => ({ ...r, noStandIns: Boolean(Number(r.noStandIns)) })))
 }
 
 const optionCache = new Map<number, { name: string, at: number }>()
 const OPTION_TTL_MS = 30_000
 
-/** Option names by id, remembered for a while (every scan shows them; they are renamed rarely). */
-async function optionNames(db: AnyDb, ids: number[]) {
+/** Option names by id, remembered for a while (every scan and builder page shows them; they are renamed rarely). */
+export async function optionNames(db: AnyDb, ids: number[]) {
   const now = Date.now()
   const missing = ids.filter(id => (optionCache.get(id)?.at ?? 0) < now - OPTION_TTL_MS)
   if (missing.length) {
@@ -232,13 +231,15 @@ const ITEM_ORDER = () => [asc(schema.bagItems.bagId), asc(schema.stages.sortOrde
 // on every scan); the order is ITEM_ORDER's, stages without an order first as MariaDB sorts NULL.
 const itemsOfOneBag = preparedPer((db: AnyDb) => bagItemQuery(db).where(eq(schema.bagItems.bagId, sql.placeholder('bagId'))).prepare())
 const orderKey = (v: number | null) => (v == null ? -Infinity : v)
+function inPouchOrder<R extends { stageOrder: number | null, lineOrder: number, itemId: number }>(rows: R[]) {
+  return rows.sort((a, b) => (orderKey(a.stageOrder) - orderKey(b.stageOrder)) || (a.lineOrder - b.lineOrder) || (a.itemId - b.itemId))
+}
 
 /** A bag's items with their line, part, stage and any stand-in packed, in pouch (stage) order. */
 export async function loadBagItems(db: AnyDb, bagIds: number[]) {
   if (!bagIds.length) return []
   if (bagIds.length === 1) {
-    const rows = await itemsOfOneBag(db).execute({ bagId: bagIds[0] })
-    return rows.sort((a, b) => (orderKey(a.stageOrder) - orderKey(b.stageOrder)) || (a.lineOrder - b.lineOrder) || (a.itemId - b.itemId))
+    return inPouchOrder(await itemsOfOneBag(db).execute({ bagId: bagIds[0] }))
   }
   return bagItemQuery(db).where(inArray(schema.bagItems.bagId, bagIds)).orderBy(...ITEM_ORDER())
 }

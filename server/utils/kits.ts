@@ -126,6 +126,11 @@ export async function requireRevision(db: Reader, revisionId: number): Promise<R
   return rev
 }
 
+/** The kit's newest revision (the parent of the next one), if it has any. */
+async function newestRevision(db: Reader, kitId: number): Promise<RevisionRow | undefined> {
+  return (await db.select().from(schema.revisions).where(eq(schema.revisions.kitId, kitId)).orderBy(desc(schema.revisions.id)).limit(1))[0]
+}
+
 /** Copies a revision's option groups and options into another; the maps take old ids to new, and option ids to names. */
 async function copyOptionGroups(tx: AnyTx, fromId: number, toId: number) {
   const [groups, opts] = await Promise.all([
@@ -193,7 +198,7 @@ export async function newRevision(db: AnyDb, kitId: number, opts: { fromId?: num
         if (!from || from.kitId !== kitId) fail(404, `Revision ${opts.fromId} is not a revision of this kit`)
       }
       else {
-        from = (await tx.select().from(schema.revisions).where(eq(schema.revisions.kitId, kitId)).orderBy(desc(schema.revisions.id)).limit(1))[0]
+        from = await newestRevision(tx, kitId)
       }
       const label = opts.label?.trim() || nextRevisionLabel(await labelsOf(tx, kitId))
       const [row] = await tx.insert(schema.revisions).values({ kitId, label, state: 'draft', parentId: from?.id ?? null, notes: opts.notes ?? null }).$returningId()
@@ -768,7 +773,7 @@ export async function commitImport(db: AnyDb, kitId: number, input: CommitInput,
         if (missing.length) fail(422, `Catalogue part${missing.length === 1 ? '' : 's'} ${missing.join(', ')} no longer exist${missing.length === 1 ? 's' : ''}: preview again. Nothing was imported.`)
       }
       const newIds = await createParts(tx, choices.flatMap(c => (c.create ? [c.create] : [])))
-      const [parent] = await tx.select({ id: schema.revisions.id }).from(schema.revisions).where(eq(schema.revisions.kitId, kitId)).orderBy(desc(schema.revisions.id)).limit(1)
+      const parent = await newestRevision(tx, kitId)
       const label = input.label?.trim() || nextRevisionLabel(await labelsOf(tx, kitId))
       const notes = input.notes ?? (input.fileName ? `Imported from ${input.fileName}` : null)
       const [rev] = await tx.insert(schema.revisions).values({ kitId, label, state: 'draft', parentId: parent?.id ?? null, notes: notes?.slice(0, 2000) ?? null }).$returningId()
@@ -783,7 +788,7 @@ export async function commitImport(db: AnyDb, kitId: number, input: CommitInput,
         }
       })
       for (let i = 0; i < values.length; i += 500) await tx.insert(schema.bomLines).values(values.slice(i, i + 500))
-      const carried = input.carryOptions && parent ? await carryOptionsInto(tx, parent.id, rev!.id) : null
+      const carried = input.carryOptions && parent ? await carryOptionsInto(tx, parent, rev!.id) : null
       await tx.insert(schema.auditLog).values({ userId, action: 'bom.import', subjectType: 'revision', subjectId: String(rev!.id), detail: { kitId, label, file: input.fileName ?? null, lines: values.length, newParts: newIds.size, carriedOptions: carried ? { from: carried.from, groups: carried.groups, options: carried.options, lines: carried.lines } : null } })
       return { id: rev!.id, label, lines: values.length, newParts: newIds.size, carried }
     })
@@ -806,7 +811,7 @@ function canonicalDesignators(text: string) {
 
 /** What the kit's newest revision offers as options: shown beside an import so the organiser can carry them over. */
 export async function parentOptionsOfImport(db: Reader, kitId: number) {
-  const [parent] = await db.select({ id: schema.revisions.id, label: schema.revisions.label }).from(schema.revisions).where(eq(schema.revisions.kitId, kitId)).orderBy(desc(schema.revisions.id)).limit(1)
+  const parent = await newestRevision(db, kitId)
   if (!parent) return null
   const [groups, opts, [lines]] = await Promise.all([
     db.select().from(schema.optionGroups).where(eq(schema.optionGroups.revisionId, parent.id)).orderBy(asc(schema.optionGroups.sortOrder), asc(schema.optionGroups.id)),
@@ -826,17 +831,18 @@ export async function parentOptionsOfImport(db: Reader, kitId: number) {
  * imported line with the same designators; where the import has no such line the link is dropped
  * (the option line then adds its part) and said in `dropped`, for the organiser to check on the draft.
  */
-async function carryOptionsInto(tx: AnyTx, fromId: number, toId: number) {
-  const [[from], [hasGroups], oldLines, newBase, newStages] = await Promise.all([
-    tx.select({ label: schema.revisions.label }).from(schema.revisions).where(eq(schema.revisions.id, fromId)),
+async function carryOptionsInto(tx: AnyTx, from: { id: number, label: string }, toId: number) {
+  const fromId = from.id
+  const [[hasGroups], oldLines, oldStages, newBase, newStages] = await Promise.all([
     tx.select({ id: schema.optionGroups.id }).from(schema.optionGroups).where(eq(schema.optionGroups.revisionId, fromId)).limit(1),
     tx.select().from(schema.bomLines).where(eq(schema.bomLines.revisionId, fromId)).orderBy(asc(schema.bomLines.sortOrder), asc(schema.bomLines.id)),
+    tx.select({ id: schema.stages.id, name: schema.stages.name }).from(schema.stages).where(eq(schema.stages.revisionId, fromId)),
     tx.select({ id: schema.bomLines.id, designators: schema.bomLines.designators, sortOrder: schema.bomLines.sortOrder }).from(schema.bomLines).where(eq(schema.bomLines.revisionId, toId)),
     tx.select({ id: schema.stages.id, name: schema.stages.name }).from(schema.stages).where(eq(schema.stages.revisionId, toId)),
   ])
-  const result = { from: from?.label ?? '', groups: 0, options: 0, lines: 0, dropped: [] as string[] }
+  const result = { from: from.label, groups: 0, options: 0, lines: 0, dropped: [] as string[] }
   if (!hasGroups) return result
-  const oldStageNames = new Map((await tx.select({ id: schema.stages.id, name: schema.stages.name }).from(schema.stages).where(eq(schema.stages.revisionId, fromId))).map(st => [st.id, st.name.toLowerCase()]))
+  const oldStageNames = new Map(oldStages.map(st => [st.id, st.name.toLowerCase()]))
   const stageByName = new Map(newStages.map(st => [st.name.toLowerCase(), st.id]))
   const baseByDesignators = new Map<string, number>()
   for (const l of newBase) if (l.designators && !baseByDesignators.has(canonicalDesignators(l.designators))) baseByDesignators.set(canonicalDesignators(l.designators), l.id)

@@ -1,5 +1,5 @@
-import { alias } from 'drizzle-orm/mysql-core'
 import type { Db } from './db'
+import { optionNames } from './bags'
 import { preparedPer } from './prepared'
 import { readScan } from './codes'
 import { pendingReworkOf } from './rework'
@@ -37,47 +37,38 @@ export function builderOrderStatus(orderState: string, bagState: string | null |
   return 'paid'
 }
 
-/** The builder's orders, newest first, with the kit, build day and bag state (expired holds left out). */
 // The kit and build day as both builder reads show them.
 const kitColumns = () => ({ id: tables.kits.id, name: tables.kits.name, transmits: tables.kits.transmits })
 const dayColumns = () => ({ id: tables.buildDays.id, name: tables.buildDays.name, date: tables.buildDays.date, venue: tables.buildDays.venue })
 
-// The names of an order's options in the same read: a JSON object by option id, from MariaDB's
-// JSON_TABLE over the order's id list (null when it has none). Each round trip saved is about 0.7 ms
-// of the app's CPU on this machine, so the builders' reads take one per query they can't avoid.
-const optionNamesOfOrder = () => sql<string | Record<string, string> | null>`(select json_objectagg(op.id, op.name)
-  from json_table(${tables.orders.optionIds}, '$[*]' columns(id int path '$')) j straight_join ${tables.options} op on op.id = j.id)`
-
-/** The order's option names in the order's own order, from `optionNamesOfOrder`. */
-function optionNames(optionIds: number[] | null, names: string | Record<string, string> | null) {
-  const byId: Record<string, string> = typeof names === 'string' ? JSON.parse(names) : names ?? {}
-  return (optionIds ?? []).map(id => byId[String(id)]).filter((x): x is string => !!x)
+/** An order's option names in the order's own order, from the names the station also uses (kept for a while). */
+async function optionNamesOf(db: Db, orders: { optionIds: number[] | null }[]) {
+  const names = await optionNames(db, [...new Set(orders.flatMap(o => o.optionIds ?? []))])
+  return (o: { optionIds: number[] | null }) => (o.optionIds ?? []).flatMap(id => (names.has(id) ? [names.get(id)!] : []))
 }
 
-// The bag may be packed to a newer revision than the one on sale when the order was placed.
-const bagRevision = alias(tables.revisions, 'bag_revision')
-
+// The revision is the bag's once it is packed (perhaps a newer one than on sale when the order was
+// placed), else the one the order bought.
 const ordersOfBuilder = preparedPer((db: Db) => db.select({
   order: tables.orders,
-  optionNames: optionNamesOfOrder(),
   kit: kitColumns(),
   revisionLabel: tables.revisions.label,
-  bagRevisionLabel: bagRevision.label,
   day: dayColumns(),
   bag: { id: tables.bags.id, code: tables.bags.code, state: tables.bags.state, collectedAt: tables.bags.collectedAt },
 }).from(tables.orders)
   .innerJoin(tables.offerings, eq(tables.offerings.id, tables.orders.offeringId))
-  .innerJoin(tables.revisions, eq(tables.revisions.id, tables.offerings.revisionId))
+  .leftJoin(tables.bags, eq(tables.bags.orderId, tables.orders.id))
+  .innerJoin(tables.revisions, eq(tables.revisions.id, sql`coalesce(${tables.bags.revisionId}, ${tables.offerings.revisionId})`))
   .innerJoin(tables.kits, eq(tables.kits.id, tables.revisions.kitId))
   .innerJoin(tables.buildDays, eq(tables.buildDays.id, tables.orders.buildDayId))
-  .leftJoin(tables.bags, eq(tables.bags.orderId, tables.orders.id))
-  .leftJoin(bagRevision, eq(bagRevision.id, tables.bags.revisionId))
   .where(and(eq(tables.orders.userId, sql.placeholder('userId')), ne(tables.orders.state, 'expired')))
   .orderBy(desc(tables.orders.createdAt), desc(tables.orders.id))
   .prepare())
 
+/** The builder's orders, newest first, with the kit, build day and bag state (expired holds left out). */
 export async function listBuilderOrders(db: Db, userId: number) {
   const rows = await ordersOfBuilder(db).execute({ userId })
+  const optionsOf = await optionNamesOf(db, rows.map(r => r.order))
   return rows.map(r => ({
     id: r.order.id,
     state: r.order.state,
@@ -87,8 +78,8 @@ export async function listBuilderOrders(db: Db, userId: number) {
     currency: r.order.currency,
     paidAt: r.order.paidAt,
     kit: r.kit,
-    revisionLabel: r.bagRevisionLabel ?? r.revisionLabel,
-    options: optionNames(r.order.optionIds, r.optionNames),
+    revisionLabel: r.revisionLabel,
+    options: optionsOf(r.order),
     buildDay: r.day,
     bag: r.bag ? { id: r.bag.id, code: r.bag.code, state: r.bag.state, collectedAt: r.bag.collectedAt } : null,
   }))
@@ -116,12 +107,8 @@ function unknownPart(id: number): BagPartView {
   return { id, name: `Part ${id}`, kind: 'other', value: null, unit: null, valueText: null, tolerancePct: null, mounting: null, dielectric: null, package: null, pinoutNote: null }
 }
 
-/**
- * One bag with its order, kit and contents grouped by stage. `ownerId` limits it to that
- * builder's bags (another builder's bag is a 404, as if it did not exist); null for the desk.
- */
 const bagHeaderForBuilder = preparedPer((db: Db) => db.select({
-  bag: tables.bags, order: tables.orders, optionNames: optionNamesOfOrder(),
+  bag: tables.bags, order: tables.orders,
   revision: { id: tables.revisions.id, label: tables.revisions.label },
   kit: kitColumns(),
   day: dayColumns(),
@@ -156,6 +143,10 @@ async function partsOfBag(db: Db, bagId: number) {
   return rows as unknown as BagPartView[]
 }
 
+/**
+ * One bag with its order, kit and contents grouped by stage. `ownerId` limits it to that
+ * builder's bags (another builder's bag is a 404, as if it did not exist); null for the desk.
+ */
 export async function loadBagForBuilder(db: Db, bagId: number, ownerId: number | null) {
   // The owner check is in code, after one keyed read: another builder's bag is "not found" all the same.
   const [[found], items, partRows] = await Promise.all([
@@ -165,6 +156,7 @@ export async function loadBagForBuilder(db: Db, bagId: number, ownerId: number |
   ])
   const row = found && (ownerId == null || found.order.userId === ownerId) ? found : undefined
   if (!row) throw createError({ statusCode: 404, statusMessage: 'Not found', message: 'No such bag among your orders' })
+  const optionsOf = await optionNamesOf(db, [row.order])
   const partOf = new Map(partRows.map(p => [p.id, p]))
 
   const stages = new Map<string, BagStageView>()
@@ -182,7 +174,7 @@ export async function loadBagForBuilder(db: Db, bagId: number, ownerId: number |
   }
   return {
     bag: { id: row.bag.id, code: row.bag.code, state: row.bag.state, sealedAt: row.bag.sealedAt, collectedAt: row.bag.collectedAt, reworkState: row.bag.reworkState },
-    order: { id: row.order.id, state: row.order.state, status: builderOrderStatus(row.order.state, row.bag.state), seat: row.order.seat, options: optionNames(row.order.optionIds, row.optionNames) },
+    order: { id: row.order.id, state: row.order.state, status: builderOrderStatus(row.order.state, row.bag.state), seat: row.order.seat, options: optionsOf(row.order) },
     kit: row.kit,
     revision: row.revision,
     buildDay: row.day,

@@ -1,4 +1,4 @@
-import { and, asc, desc, eq, inArray, isNull, sql } from 'drizzle-orm'
+import { and, asc, desc, eq, inArray, sql } from 'drizzle-orm'
 import { format } from 'mysql2'
 import { createError, setResponseHeader, setResponseHeaders, setResponseStatus, type H3Event } from 'h3'
 import { z } from 'zod'
@@ -6,7 +6,7 @@ import * as schema from '../db/schema'
 import { bagSwapPart, bagTotals, COUNTED_SINGLY, headersFromRows, loadBagHeaders, loadBagItems, loadSwapRules, oneBagReadSql, pouchesOf, rawHeaderRow, rawItemRows, standInVerdict, type BagItemRow } from './bags'
 import { isBagCode, looksLikeBareCode, readScan } from './codes'
 import { SHEET_LAYOUTS, validateLayout, type SheetLayout } from './labels'
-import { moveStockBatch, retryOnLockConflict } from './stock'
+import { moveStockBatch, notEnoughStock, retryOnLockConflict } from './stock'
 import { useBatchPool, type Db, type Tx } from './db'
 
 /** A claim on a bag lapses after this long without a scan (KW_CLAIM_MINUTES, default 10). */
@@ -17,6 +17,13 @@ export const CLAIM_LAPSE_SECONDS = Math.max(30, Math.round((Number(process.env.K
 const CLAIMABLE = `id = ? and state in ('open', 'packing') and (claimed_by is null or claimed_by = ? or claimed_at < now() - interval ${CLAIM_LAPSE_SECONDS} second)`
 /** Claims (or renews the claim on) a bag. Parameters: user id, bag id, user id. */
 const CLAIM_SQL = `update bags set claimed_by = ?, claimed_at = now(), state = 'packing' where ${CLAIMABLE}`
+/**
+ * A packer packs one bag at a time: lets go of their other bags, back to "not started" when nothing
+ * is in them (found through the index on claimed_by). Parameters: user id, the bag to keep (or 0).
+ */
+const RELEASE_OTHERS_SQL = `update bags b set b.claimed_by = null, b.claimed_at = null,
+    b.state = if(exists(select 1 from bag_items i where i.bag_id = b.id and i.qty_packed > 0), 'packing', 'open')
+  where b.claimed_by = ? and b.id <> ? and b.state in ('open', 'packing')`
 /**
  * What unsealed bags hold of a lot (`lot`: an SQL expression for its id). Only ever inside a plain
  * SELECT: in read committed that is a consistent read, while `SET @v = (subquery)` would take shared
@@ -182,9 +189,7 @@ set transaction isolation level read committed;
 start transaction;
 ${CLAIM_SQL};
 set @kw_claimed = row_count();
-update bags b set b.claimed_by = null, b.claimed_at = null,
-    b.state = if(exists(select 1 from bag_items i where i.bag_id = b.id and i.qty_packed > 0), 'packing', 'open')
-  where b.claimed_by = ? and b.id <> ? and b.state in ('open', 'packing') and @kw_claimed = 1;
+${RELEASE_OTHERS_SQL} and @kw_claimed = 1;
 insert into bag_events (bag_id, kind, user_id) select ?, 'claim', ? from dual where @kw_claimed = 1;
 commit;
 select @kw_claimed as claimed;`, [userId, bagId, userId, userId, bagId, bagId, userId])
@@ -206,23 +211,11 @@ async function claimRefusal(db: Db, bagId: number) {
   return claimedBy(h.code, h.claim?.name ?? 'Another packer')
 }
 
-/** A packer packs one bag at a time: claiming one lets go of the others (back to "not started" when nothing is in them). */
-async function releaseOthers(tx: Tx, keepBagId: number, userId: number) {
-  // Find them with a plain read first: an UPDATE searching by the unindexed claim would lock every bag row.
-  const B = schema.bags
-  const mine = await tx.select({ id: B.id }).from(B).where(and(eq(B.claimedBy, userId), inArray(B.state, ['open', 'packing'])))
-  const ids = mine.map(b => b.id).filter(id => id !== keepBagId)
-  if (!ids.length) return
-  await tx.execute(sql`update bags b set b.claimed_by = null, b.claimed_at = null,
-    b.state = if(exists(select 1 from bag_items i where i.bag_id = b.id and i.qty_packed > 0), 'packing', 'open')
-    where b.id in (${sql.join(ids.map(id => sql`${id}`), sql`, `)}) and b.claimed_by = ${userId}`)
-}
-
 /** Lets go of a bag (the packer's "done for now"). */
 export async function releaseBag(db: Db, bagId: number, packer: Packer) {
   await db.transaction(async (tx) => {
     await claim(tx, bagId, packer.id)
-    await releaseOthers(tx, -1, packer.id)
+    await tx.execute(sql.raw(format(RELEASE_OTHERS_SQL, [packer.id, 0])))
     await tx.insert(schema.bagEvents).values({ bagId, kind: 'release', userId: packer.id })
   })
   return bagView(db, bagId)
@@ -290,16 +283,16 @@ async function scanBinOnce(db: Db, packer: Packer, code: string, input: ScanInpu
     throw refuse(409, 'over-count', `${pick.item.designators} needs ${remaining} more; ${qty} is too many. Put back ${qty - remaining}.`, { itemId: pick.item.itemId, remaining })
 
   const lot = chooseLot(bin.lots.filter(l => l.partId === pick.partId), qty, code, pick.partName)
-  const done = await packInOneTrip(db, { bagId: h.id, itemId: pick.item.itemId, lotId: lot.id, binId: bin.id, partId: pick.partId, qty, userId: packer.id,
-    standIn: pick.standIn ? { warning: pick.standIn.warning?.slice(0, 255) ?? null } : null }, {
+  const standIn = pick.standIn ? { warning: pick.standIn.warning?.slice(0, 255) ?? null } : null
+  const done = await packInOneTrip(db, { bagId: h.id, itemId: pick.item.itemId, lotId: lot.id, binId: bin.id, partId: pick.partId, qty, userId: packer.id, standIn }, {
     overCount: () => refuse(409, 'over-count', `${pick.item.designators} was packed meanwhile: ${qty} more would be too many`, { itemId: pick.item.itemId }),
     binShort: (left: number) => refuse(409, 'bin-short', `Bin ${code} has only ${Math.max(0, left)} × ${pick.partName} left on the books (counting parts already in unsealed bags): count the bin or use another`, { raced: true }),
   })
   const item = {
     itemId: pick.item.itemId, qtyPacked: done.qtyPacked,
-    standInPartId: pick.standIn ? pick.partId : pick.item.standInPartId,
-    standInName: pick.standIn ? pick.partName : pick.item.standInName,
-    standInWarning: pick.standIn ? (pick.standIn.warning?.slice(0, 255) ?? null) : pick.item.standInWarning,
+    standInPartId: standIn ? pick.partId : pick.item.standInPartId,
+    standInName: standIn ? pick.partName : pick.item.standInName,
+    standInWarning: standIn ? standIn.warning : pick.item.standInWarning,
   }
   const totals = bagTotals(items.map(i => (i.itemId === item.itemId ? { ...i, qtyPacked: item.qtyPacked } : i)))
   const lastPack = { id: done.eventId, qty, itemId: item.itemId, binCode: code, partName: pick.partName }
@@ -526,11 +519,10 @@ select @kw_mine as mine, @kw_open as open, @kw_lots as lots, @kw_ok as ok, @kw_g
   if (Number(out.mine) !== 1) throw await claimRefusal(db, bagId)
   const open = Number(out.open)
   if (open > 0) throw refuse(409, 'incomplete', `${open} line${open === 1 ? ' is' : 's are'} not fully packed yet: the bag cannot be sealed`)
-  const [short] = await db.execute(sql`select l.id as lotId, l.on_hand as onHand, b.code as code, p.q as asked from lots l join bins b on b.id = l.bin_id
-    join (select lot_id, sum(qty) as q from bag_events where bag_id = ${bagId} and kind = 'pack' and undone = 0 and lot_id is not null group by lot_id) p on p.lot_id = l.id
-    where l.on_hand < p.q order by l.id limit 1`) as unknown as [{ lotId: number, onHand: number, code: string, asked: number }[]]
-  const s = short[0]
-  throw createError({ statusCode: 409, statusMessage: 'Not enough stock', message: s ? `Bin ${s.code} holds only ${s.onHand} of lot ${s.lotId}; ${Number(s.asked)} were asked for` : 'The stock changed while sealing: try again', data: s ? { lotId: Number(s.lotId), onHand: Number(s.onHand), asked: Number(s.asked) } : undefined })
+  const [[short]] = await db.execute(sql.raw(format(`select l.id as lotId, l.on_hand as onHand, b.code as binCode, p.q as asked
+    from lots l join bins b on b.id = l.bin_id join ${PICKS} p on p.lot_id = l.id where l.on_hand < p.q order by l.id limit 1`, [bagId]))) as unknown as [{ lotId: number, onHand: number, binCode: string, asked: number }[]]
+  if (!short) throw createError({ statusCode: 409, statusMessage: 'Not enough stock', message: 'The stock changed while sealing: try again' })
+  throw notEnoughStock({ binCode: short.binCode, lotId: Number(short.lotId), onHand: Number(short.onHand), asked: Number(short.asked) })
 }
 
 /** An organiser unseals a bag with a reason: its picks go back to their lots (ledger 'return') and the reservations hold again. */

@@ -19,6 +19,11 @@ export interface Movement {
   reportId?: number | null
 }
 
+/** The 409 for a movement that would take a lot below zero, as every stock write words it. */
+export function notEnoughStock(s: { binCode: string, lotId: number, onHand: number, asked: number }) {
+  return createError({ statusCode: 409, statusMessage: 'Not enough stock', message: `Bin ${s.binCode} holds only ${s.onHand} of lot ${s.lotId}; ${s.asked} were asked for`, data: { lotId: s.lotId, onHand: s.onHand, asked: s.asked } })
+}
+
 /**
  * Writes one stock movement inside the caller's transaction: a guarded update of the lot's cached
  * on-hand (never below zero) and its append-only ledger row. Throws 409 when the lot would go negative,
@@ -34,7 +39,7 @@ export async function moveStock(tx: Tx, m: Movement) {
     const [lot] = await tx.select({ onHand: schema.lots.onHand, binId: schema.lots.binId }).from(schema.lots).where(eq(schema.lots.id, m.lotId))
     if (!lot) throw createError({ statusCode: 404, statusMessage: 'Not found', message: `No lot ${m.lotId}` })
     const [bin] = await tx.select({ code: schema.bins.code }).from(schema.bins).where(eq(schema.bins.id, lot.binId))
-    throw createError({ statusCode: 409, statusMessage: 'Not enough stock', message: `Bin ${bin?.code ?? '?'} holds only ${lot.onHand} of lot ${m.lotId}; ${-m.qty} were asked for`, data: { lotId: m.lotId, onHand: lot.onHand, asked: -m.qty } })
+    throw notEnoughStock({ binCode: bin?.code ?? '?', lotId: m.lotId, onHand: lot.onHand, asked: -m.qty })
   }
   const [lot] = await tx.select({ partId: schema.lots.partId, binId: schema.lots.binId }).from(schema.lots).where(eq(schema.lots.id, m.lotId))
   await tx.insert(schema.ledger).values({
@@ -71,7 +76,7 @@ export async function moveStockBatch(tx: Tx, moves: Movement[]) {
     const now = await tx.select({ id: schema.lots.id, onHand: schema.lots.onHand, code: schema.bins.code }).from(schema.lots)
       .innerJoin(schema.bins, eq(schema.bins.id, schema.lots.binId)).where(inArray(schema.lots.id, ids))
     const short = now.find(l => l.onHand + byLot.get(l.id)!.qty < 0) ?? now[0]!
-    throw createError({ statusCode: 409, statusMessage: 'Not enough stock', message: `Bin ${short.code} holds only ${short.onHand} of lot ${short.id}; ${-byLot.get(short.id)!.qty} were asked for`, data: { lotId: short.id, onHand: short.onHand, asked: -byLot.get(short.id)!.qty } })
+    throw notEnoughStock({ binCode: short.code, lotId: short.id, onHand: short.onHand, asked: -byLot.get(short.id)!.qty })
   }
   await tx.insert(schema.ledger).values(ids.map((id) => {
     const m = byLot.get(id)!

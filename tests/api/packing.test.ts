@@ -252,6 +252,31 @@ describe('the packing station refuses, and nothing changes', () => {
     expect((await scan(pip, binToken('A-09'), { bagId: bag.id, qty: 1 })).status).toBe(423)
   })
 
+  it('a packer holds one bag at a time: claiming another lets go of the first, and "done for now" lets go of it', async () => {
+    const magnus = await signedIn(base, 'magnus.teale@club.invalid')
+    const [magnusId] = await db.select({ id: schema.users.id }).from(schema.users).where(eq(schema.users.email, 'magnus.teale@club.invalid'))
+    const begun = await makePaidBag(db, { buildDayId: dayId, slug: 'tern-atu' })
+    const untouched = await makePaidBag(db, { buildDayId: dayId, slug: 'tern-atu' })
+    const last = await makePaidBag(db, { buildDayId: dayId, slug: 'tern-atu' })
+    const stateOf = async (id: number) => (await db.select({ state: schema.bags.state, claimedBy: schema.bags.claimedBy }).from(schema.bags).where(eq(schema.bags.id, id)))[0]
+    const first = await scan(magnus, bagToken(begun.code))
+    expect(first.status).toBe(200)
+    const open = itemsOf(first.body.bag).find(i => i.qtyPacked < i.qtyNeeded)!
+    const one = await scan(magnus, binToken(open.bins[0]!), { bagId: begun.id, itemId: open.itemId, qty: 1, confirmStandIn: true })
+    expect(one.body.outcome).toBe('packed')
+    expect((await scan(magnus, bagToken(untouched.code))).status).toBe(200)
+    expect(await stateOf(begun.id)).toEqual({ state: 'packing', claimedBy: null })
+    expect(await stateOf(untouched.id)).toEqual({ state: 'packing', claimedBy: magnusId!.id })
+    expect((await scan(magnus, bagToken(last.code))).status).toBe(200)
+    // Let go with nothing in it: back to "not started".
+    expect(await stateOf(untouched.id)).toEqual({ state: 'open', claimedBy: null })
+    expect(await stateOf(begun.id)).toEqual({ state: 'packing', claimedBy: null })
+    const done = await magnus.post(`/api/bags/${last.code}/release`)
+    expect(done.status).toBe(200)
+    expect(done.body.bag).toMatchObject({ state: 'open', claim: null })
+    expect(await stateOf(last.id)).toEqual({ state: 'open', claimedBy: null })
+  })
+
   it('only one of two packers claiming a bag at the same moment gets it', async () => {
     const fresh = await makePaidBag(db, { buildDayId: dayId, slug: 'tern-atu' })
     const results = await Promise.all([scan(pip, bagToken(fresh.code)), scan(ruth, bagToken(fresh.code))])
