@@ -1,11 +1,12 @@
-import { execFileSync } from 'node:child_process'
-import { mkdtempSync, readdirSync, rmSync, writeFileSync } from 'node:fs'
+import { mkdtempSync, rmSync } from 'node:fs'
 import { tmpdir } from 'node:os'
 import { join } from 'node:path'
 import { and, eq, sql } from 'drizzle-orm'
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest'
 import * as schema from '../../server/db/schema'
 import { labelUrl, readScan, signCode } from '../../server/utils/codes'
+import { SHEET_LAYOUTS, type SheetLayout } from '../../server/utils/labels'
+import { scanSheet } from '../support/label-scan'
 import { Client, DEMO, signedIn } from '../support/client'
 import { demoDayId, makeBag, makeBuildDay, makePaidBag, makePaidOrder, openDb, stockLedgerMismatches, type PackDb } from './packing-data'
 
@@ -119,17 +120,9 @@ describe('labels', () => {
   beforeAll(() => { dir = mkdtempSync(join(tmpdir(), 'kw-pack-labels-')) })
   afterAll(() => rmSync(dir, { recursive: true, force: true }))
 
-  /** Renders each PDF page with pdftoppm (poppler) and decodes every QR symbol with zbarimg (zbar): both independent of our renderer. */
-  function decodePdf(pdf: Buffer, name: string): string[] {
-    const file = join(dir, `${name}.pdf`)
-    writeFileSync(file, pdf)
-    execFileSync('pdftoppm', ['-r', '200', '-gray', '-png', file, join(dir, name)], { stdio: ['ignore', 'ignore', 'ignore'] })
-    const pages = readdirSync(dir).filter(f => f.startsWith(`${name}-`) && f.endsWith('.png'))
-    expect(pages.length).toBeGreaterThan(0)
-    return pages.flatMap((p) => {
-      const out = execFileSync('zbarimg', ['--quiet', '--raw', '-Sdisable', '-Sqrcode.enable', join(dir, p)], { encoding: 'utf8', stdio: ['ignore', 'pipe', 'ignore'] })
-      return out.split('\n').filter(Boolean)
-    })
+  /** Every QR text on the sheet, read label by label with pdftoppm (poppler) and zbarimg (zbar): both independent of our renderer. */
+  function decodePdf(pdf: Buffer, name: string, layout: SheetLayout | string): string[] {
+    return scanSheet(dir, pdf, name, typeof layout === 'string' ? SHEET_LAYOUTS.find(l => l.id === layout)! : layout)
   }
 
   async function pdf(path: string) {
@@ -142,7 +135,7 @@ describe('labels', () => {
   it('every bag and pouch label scans (zbarimg) to its bag URL, and the signature verifies', async () => {
     const a = await makePaidBag(db, { buildDayId: dayId, slug: 'wren-40', option: '80 m (3.560 MHz)' })
     const b = await makePaidBag(db, { buildDayId: dayId, slug: 'tern-atu' })
-    const decoded = decodePdf(await pdf(`/api/labels/bags?codes=${a.code},${b.code}&kind=both&layout=a4-2x7`), 'bags')
+    const decoded = decodePdf(await pdf(`/api/labels/bags?codes=${a.code},${b.code}&kind=both&layout=a4-2x7`), 'bags', 'a4-2x7')
     // One bag label plus one pouch label per stage: Wren 40 has 4 stages, the Tern tuner 3.
     expect(decoded.length).toBe((1 + 4) + (1 + 3))
     expect(decoded.filter(t => t === bagToken(a.code))).toHaveLength(5)
@@ -156,9 +149,10 @@ describe('labels', () => {
 
   it('labels on a label-printer roll and on a custom US Letter sheet scan too; an impossible layout is refused', async () => {
     const a = await makePaidBag(db, { buildDayId: dayId, slug: 'linnet-20' })
-    const thermal = decodePdf(await pdf(`/api/labels/bags?codes=${a.code}&kind=bags&layout=thermal-62x29`), 'thermal')
+    const thermal = decodePdf(await pdf(`/api/labels/bags?codes=${a.code}&kind=bags&layout=thermal-62x29`), 'thermal', 'thermal-62x29')
     expect(thermal).toEqual([bagToken(a.code)])
-    const custom = decodePdf(await pdf(`/api/labels/bags?codes=${a.code}&kind=pouches&layout=custom&page=Letter&rows=5&cols=2&marginTop=12&marginLeft=5&gapX=4&gapY=2`), 'custom')
+    const custom = decodePdf(await pdf(`/api/labels/bags?codes=${a.code}&kind=pouches&layout=custom&page=Letter&rows=5&cols=2&marginTop=12&marginLeft=5&gapX=4&gapY=2`), 'custom',
+      { id: 'custom', name: 'custom', page: 'Letter', rows: 5, cols: 2, marginTopMm: 12, marginLeftMm: 5, gapXMm: 4, gapYMm: 2 })
     expect(custom).toEqual([bagToken(a.code), bagToken(a.code), bagToken(a.code)])
     const bad = await org.get(`/api/labels/bags?codes=${a.code}&layout=custom&page=A4&rows=30&cols=9`)
     expect(bad.status).toBe(400)
@@ -166,7 +160,7 @@ describe('labels', () => {
   })
 
   it('bin labels scan to their bin URL', async () => {
-    const decoded = decodePdf(await pdf('/api/labels/bins?codes=A-08,E-02&layout=a4-3x8'), 'bins')
+    const decoded = decodePdf(await pdf('/api/labels/bins?codes=A-08,E-02&layout=a4-3x8'), 'bins', 'a4-3x8')
     expect(decoded.sort()).toEqual([labelUrl(base, 'bin', 'A-08', secret), labelUrl(base, 'bin', 'E-02', secret)].sort())
     expect(decoded.map(t => readScan(t, secret))).toContainEqual({ kind: 'bin', code: 'E-02' })
   })

@@ -1,5 +1,5 @@
 import { execFileSync } from 'node:child_process'
-import { mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs'
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs'
 import { createRequire } from 'node:module'
 import { tmpdir } from 'node:os'
 import { join } from 'node:path'
@@ -7,13 +7,13 @@ import jsQR from 'jsqr'
 import { afterAll, describe, expect, it } from 'vitest'
 import { labelUrl, newBagCode, readScan, signCode } from '../../server/utils/codes'
 import { type Label, type SheetLayout, SHEET_LAYOUTS, layoutGeometry, renderLabels, validateLayout, woffToSfnt } from '../../server/utils/labels'
+import { type Grey, cropLabels, rasterise as rasteriseIn, SCAN_DPI as DPI, zbar } from '../support/label-scan'
 
 // pngjs comes with qrcode (its PNG writer); it has no type package here.
 const { PNG } = createRequire(import.meta.url)('pngjs') as { PNG: { sync: { read(b: Buffer): { width: number; height: number; data: Buffer } } } }
 
 const SECRET = 'test-secret-for-label-codes-0123'
 const BASE = 'https://kitwright.example.org'
-const DPI = 200
 const work = mkdtempSync(join(tmpdir(), 'kw-labels-'))
 afterAll(() => rmSync(work, { recursive: true, force: true }))
 
@@ -38,70 +38,7 @@ function binLabel(code: string): Label {
   return { qrText: labelUrl(BASE, 'bin', code, SECRET), code: signCode('bin', code, SECRET), title: '10 k 1 % 0.25 W', lines: ['Shelf A'], tone: 'bin' }
 }
 
-/** Rasterises a PDF with poppler's pdftoppm (`png`, or 8-bit grey PGM which is far quicker to write and cut). */
-function rasterise(pdf: Buffer, name: string, format: 'png' | 'gray' = 'gray'): string[] {
-  const file = join(work, `${name}.pdf`)
-  writeFileSync(file, pdf)
-  execFileSync('pdftoppm', ['-r', String(DPI), `-${format}`, file, join(work, name)])
-  const ext = format === 'png' ? '.png' : '.pgm'
-  return readdirSync(work).filter(f => f.startsWith(`${name}-`) && f.endsWith(ext)).sort().map(f => join(work, f))
-}
-
-interface Grey { width: number; height: number; pixels: Buffer }
-
-/** Netpbm binary greymap (P5, maxval 255), as pdftoppm -gray writes it. */
-function readPgm(file: string): Grey {
-  const buf = readFileSync(file)
-  const head = /^P5\s+(\d+)\s+(\d+)\s+255\s/.exec(buf.toString('latin1', 0, 40))
-  if (!head) throw new Error(`${file} is not an 8-bit PGM`)
-  const width = Number(head[1])
-  const height = Number(head[2])
-  return { width, height, pixels: buf.subarray(head[0].length, head[0].length + width * height) }
-}
-
-function writePgm(file: string, g: Grey): void {
-  writeFileSync(file, Buffer.concat([Buffer.from(`P5\n${g.width} ${g.height}\n255\n`, 'latin1'), g.pixels]))
-}
-
-/**
- * Cuts a rasterised sheet into one image per label position, as a phone or scanner sees one label at a time.
- * (zbar given a whole sheet of 24–30 same-size symbols sometimes misses one or two that it reads alone.)
- */
-function cropLabels(pgm: string, l: SheetLayout): { file: string; dark: number; grey: Grey }[] {
-  const page = readPgm(pgm)
-  const g = layoutGeometry(l)
-  const px = (mm: number) => Math.round(mm / 25.4 * DPI)
-  return Array.from({ length: l.rows * l.cols }, (_, i) => {
-    const x = px(l.marginLeftMm + (i % l.cols) * (g.labelWidthMm + l.gapXMm))
-    const y = px(l.marginTopMm + Math.floor(i / l.cols) * (g.labelHeightMm + l.gapYMm))
-    const width = Math.min(px(g.labelWidthMm), page.width - x)
-    const height = Math.min(px(g.labelHeightMm), page.height - y)
-    const pixels = Buffer.alloc(width * height)
-    for (let r = 0; r < height; r++) page.pixels.copy(pixels, r * width, (y + r) * page.width + x, (y + r) * page.width + x + width)
-    const dark = pixels.reduce((n, v) => n + (v < 128 ? 1 : 0), 0)
-    const file = pgm.replace(/\.pgm$/, `-pos${i}.pgm`)
-    const grey = { width, height, pixels }
-    writePgm(file, grey)
-    return { file, dark, grey }
-  })
-}
-
-/** The QR codes zbar (an independent C decoder) finds in each image, in the order of the images. */
-function zbar(images: string[]): string[][] {
-  let xml: string
-  try {
-    xml = execFileSync('zbarimg', ['--xml', '-q', '-Sdisable', '-Sqrcode.enable', ...images], { stdio: ['ignore', 'pipe', 'ignore'] }).toString('utf8')
-  }
-  catch (e) {
-    const { status, stdout } = e as { status?: number; stdout?: Buffer }
-    if (status !== 4) throw e // 4: some image held no symbol
-    xml = stdout?.toString('utf8') ?? ''
-  }
-  const found = new Map<string, string[]>()
-  for (const [, href, body] of xml.matchAll(/<source href='([^']*)'>([\s\S]*?)<\/source>/g))
-    found.set(href!, [...body!.matchAll(/<!\[CDATA\[([\s\S]*?)\]\]>/g)].map(m => m[1]!))
-  return images.map(f => found.get(f) ?? [])
-}
+const rasterise = (pdf: Buffer, name: string, format: 'png' | 'gray' = 'gray') => rasteriseIn(work, pdf, name, format)
 
 /** The pure-JS jsqr decoder, on a PNG (read with pngjs) or a grey image. */
 function jsqrDecode(image: string | Grey) {
